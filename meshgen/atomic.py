@@ -1,0 +1,75 @@
+"""Atomic output: write to a temporary name beside the target, then rename into place.
+
+A crash or a kill in the middle of writing leaves the previous file (or none), never a
+truncated one. Temporary names start with ``.meshgen-tmp-`` so that a later run can
+clean up what a killed run left behind.
+"""
+
+from __future__ import annotations
+
+import os
+import shutil
+import tempfile
+from collections.abc import Iterator
+from contextlib import contextmanager
+from pathlib import Path
+
+TMP_PREFIX = ".meshgen-tmp-"
+
+
+@contextmanager
+def atomic_file(target: Path) -> Iterator[Path]:
+    """Yield a temporary path in ``target``'s folder; on success rename it to ``target``."""
+    target = Path(target)
+    target.parent.mkdir(parents=True, exist_ok=True)
+    fd, tmp = tempfile.mkstemp(prefix=TMP_PREFIX, suffix=target.suffix, dir=target.parent)
+    os.close(fd)
+    tmp_path = Path(tmp)
+    try:
+        yield tmp_path
+        os.replace(tmp_path, target)
+    finally:
+        if tmp_path.exists():
+            tmp_path.unlink()
+
+
+@contextmanager
+def atomic_dir(target: Path) -> Iterator[Path]:
+    """Yield a temporary folder beside ``target``; on success it replaces ``target``."""
+    target = Path(target)
+    target.parent.mkdir(parents=True, exist_ok=True)
+    tmp_path = Path(tempfile.mkdtemp(prefix=TMP_PREFIX, dir=target.parent))
+    try:
+        yield tmp_path
+        if target.exists():
+            old = Path(tempfile.mkdtemp(prefix=TMP_PREFIX, dir=target.parent))
+            os.replace(target, old / "old")
+            os.replace(tmp_path, target)
+            shutil.rmtree(old, ignore_errors=True)
+        else:
+            os.replace(tmp_path, target)
+    finally:
+        if tmp_path.exists():
+            shutil.rmtree(tmp_path, ignore_errors=True)
+
+
+def write_text(target: Path, text: str) -> Path:
+    """Write a text file atomically."""
+    with atomic_file(target) as tmp:
+        tmp.write_text(text, encoding="utf-8")
+    return Path(target)
+
+
+def clean_stale(folder: Path) -> list[Path]:
+    """Remove temporary files and folders a killed run left in ``folder``."""
+    removed = []
+    folder = Path(folder)
+    if not folder.is_dir():
+        return removed
+    for p in folder.glob(TMP_PREFIX + "*"):
+        if p.is_dir():
+            shutil.rmtree(p, ignore_errors=True)
+        else:
+            p.unlink(missing_ok=True)
+        removed.append(p)
+    return removed

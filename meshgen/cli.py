@@ -1,0 +1,177 @@
+"""The command line: ``main(argv)`` returns an exit code, so tests call it in-process.
+
+Exit codes: 0 done, 2 bad input (one line per problem on stderr, nothing written),
+130 interrupted, 1 anything else.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import sys
+from pathlib import Path
+
+from . import __version__
+from .errors import InputError, MeshgenError
+
+EXIT_OK, EXIT_FAIL, EXIT_INPUT, EXIT_INTERRUPT = 0, 1, 2, 130
+
+
+class ArgumentError(InputError):
+    pass
+
+
+class _Parser(argparse.ArgumentParser):
+    """argparse that raises instead of exiting, so bad arguments get exit code 2 cleanly."""
+
+    def error(self, message: str):  # noqa: D401
+        raise ArgumentError(f"{self.prog}: {message}")
+
+
+def _case_args(p: argparse.ArgumentParser) -> None:
+    p.add_argument("case", nargs="?", help="case file (TOML); the embedded default case if omitted")
+    p.add_argument("--set", dest="overrides", action="append", default=[], metavar="SECTION.KEY=VALUE",
+                   help="override a case field, e.g. --set wall.y_plus=0.5 (repeatable; empty value unsets)")
+
+
+def _parser() -> argparse.ArgumentParser:
+    from .writers import FORMATS
+
+    p = _Parser(prog="meshgen", description="Graded, tagged structured meshes for flat-plate boundary layers.")
+    p.add_argument("--version", action="version", version=f"meshgen {__version__}")
+    p.add_argument("--verbose", action="store_true", help="show gmsh's own log")
+    sub = p.add_subparsers(dest="command", parser_class=_Parser)
+
+    sp = sub.add_parser("plan", help="print the sizing table (no mesh is built)")
+    _case_args(sp)
+    sp.add_argument("--json", action="store_true", help="print the plan as JSON")
+
+    sb = sub.add_parser("build", help="build, verify and write the mesh")
+    _case_args(sb)
+    sb.add_argument("-o", "--output", help="output folder (default outputs/<case name>/)")
+    sb.add_argument("--format", dest="formats", action="append", metavar="NAME",
+                    help=f"output format, repeatable: {', '.join(sorted(FORMATS))}")
+    sb.add_argument("--force", action="store_true", help="overwrite existing outputs")
+    sb.add_argument("--no-pictures", action="store_true", help="skip the PNG pictures")
+
+    si = sub.add_parser("init", help="list the starter cases, or write one to edit")
+    si.add_argument("template", nargs="?", help="template name")
+    si.add_argument("-o", "--output", help="file to write (default <template>.toml)")
+    si.add_argument("--force", action="store_true", help="overwrite an existing file")
+
+    sub.add_parser("formats", help="list the output formats and the solvers that read them")
+    return p
+
+
+def _templates_dir() -> Path:
+    return Path(__file__).parent / "templates"
+
+
+def _template_summary(path: Path) -> str:
+    for line in path.read_text(encoding="utf-8").splitlines():
+        if line.startswith("#"):
+            return line.lstrip("# ").strip()
+    return ""
+
+
+def cmd_init(args) -> int:
+    names = sorted(p.stem for p in _templates_dir().glob("*.toml"))
+    if not args.template:
+        width = max(len(n) for n in names)
+        for n in names:
+            print(f"{n.ljust(width)}  {_template_summary(_templates_dir() / (n + '.toml'))}")
+        return EXIT_OK
+    if args.template not in names:
+        import difflib
+
+        close = difflib.get_close_matches(args.template, names, n=1)
+        hint = f"; did you mean {close[0]!r}?" if close else ""
+        raise InputError(f"init: unknown template {args.template!r}{hint} (valid: {', '.join(names)})")
+    target = Path(args.output or f"{args.template}.toml")
+    if target.is_dir():
+        raise InputError(f"-o {target}: is a folder; give a file name")
+    if target.exists() and not args.force:
+        raise InputError(f"-o {target}: exists; use --force to overwrite")
+    from .atomic import write_text
+
+    write_text(target, (_templates_dir() / f"{args.template}.toml").read_text(encoding="utf-8"))
+    print(f"wrote {target}")
+    return EXIT_OK
+
+
+def cmd_plan(args) -> int:
+    from .case import load_case
+    from .plan import make_plan
+    from .report_text import CAUTION, plan_table
+
+    plan = make_plan(load_case(args.case, args.overrides))
+    d = plan.to_dict()
+    if args.json:
+        d["caution"] = CAUTION
+        print(json.dumps(d, indent=2))
+    else:
+        print(plan_table(d))
+        print()
+        print(CAUTION)
+    return EXIT_OK
+
+
+def cmd_formats(args) -> int:
+    from .writers import FORMATS
+
+    width = max(len(n) for n in FORMATS)
+    for name, f in sorted(FORMATS.items()):
+        print(f"{name.ljust(width)}  {f.description}. Read by: {f.solvers}")
+    return EXIT_OK
+
+
+def cmd_build(args) -> int:
+    from .build import build_case
+
+    written = build_case(
+        case_path=args.case,
+        overrides=args.overrides,
+        output=args.output,
+        formats=args.formats,
+        force=args.force,
+        pictures=not args.no_pictures,
+        verbose=args.verbose,
+        progress=lambda msg: print(msg, file=sys.stderr),
+    )
+    print(f"wrote {len(written)} files to {written[0].parent if written else args.output}:")
+    for p in written:
+        print(f"  {p}")
+    return EXIT_OK
+
+
+COMMANDS = {"plan": cmd_plan, "build": cmd_build, "init": cmd_init, "formats": cmd_formats}
+
+
+def main(argv: list[str] | None = None) -> int:
+    argv = sys.argv[1:] if argv is None else list(argv)
+    try:
+        args = _parser().parse_args(argv)
+        if not args.command:
+            _parser().print_help()
+            return EXIT_INPUT
+        return COMMANDS[args.command](args)
+    except InputError as exc:
+        for line in exc.problems:
+            print(f"error: {line}", file=sys.stderr)
+        return EXIT_INPUT
+    except KeyboardInterrupt:
+        print("interrupted", file=sys.stderr)
+        return EXIT_INTERRUPT
+    except MeshgenError as exc:
+        print(f"error: {exc}", file=sys.stderr)
+        return EXIT_FAIL
+    except SystemExit as exc:  # --help and --version
+        return int(exc.code or 0)
+    except BrokenPipeError:
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        return EXIT_OK
+
+
+def entry() -> None:
+    sys.exit(main())

@@ -1,0 +1,51 @@
+"""Text for people: the plan table and the cautions printed with every plan."""
+
+from __future__ import annotations
+
+CAUTION = (
+    "Caution: these figures are a-priori estimates from flat-plate correlations. After "
+    "solving, check the y+ your solver reports and show grid independence (meshgen family, "
+    "meshgen gci) and domain independence (meshgen sweep). Defer to validated practice, "
+    "local codes and licensed engineers for anything safety-relevant."
+)
+
+
+def _fmt(v: float) -> str:
+    return f"{v:.4g}"
+
+
+def plan_table(d: dict) -> str:
+    """The sizing table of ``Plan.to_dict()`` as aligned text."""
+    corr = d["correlation"]
+    rows = [
+        ("case", d["case"]),
+        ("Reynolds number Re_L", f"{d['reynolds']:.4g}"),
+        ("regime", d["regime"]),
+        ("skin-friction correlation", f"{corr['name']}: {corr['formula']}"),
+        ("free stream U, nu", f"{_fmt(d['velocity'])} m/s, {_fmt(d['nu'])} m2/s"),
+        ("plate length L", f"{_fmt(d['length'])} m"),
+        ("delta99 at the plate end", f"{_fmt(d['delta99_end'])} m"),
+        ("domain height H", f"{_fmt(d['domain_height'])} m"),
+        ("domain x range", f"{_fmt(d['extent']['x'][0])} to {_fmt(d['extent']['x'][1])} m"),
+        ("first-cell height", f"{_fmt(d['first_cell_height'])} m"),
+        ("wall-normal growth ratio", _fmt(d["growth_ratio"])),
+        ("streamwise spacing at x = 0", f"{_fmt(d['streamwise_first_spacing'])} m"),
+    ]
+    if d.get("y_plus_target") is not None:
+        rows.append(("target y+ at x/L", f"{_fmt(d['y_plus_target'])} at {_fmt(d['reference_station'])}"))
+    lo, hi = d["y_plus_range"]
+    rows.append(("estimated y+ along the plate", f"{_fmt(lo)} to {_fmt(hi)}"))
+    rows.append(("cells inside delta99 at x/L",
+                 ", ".join(f"{k}: {v}" for k, v in d["cells_in_delta99"].items())))
+    nodes = d["nodes"]
+    grid = f"{nodes['x'] - 1} x {nodes['y'] - 1}" + ("" if nodes["z"] is None else f" x {nodes['z'] - 1}")
+    rows.append(("cells (x by y[ by z])", grid))
+    rows.append(("cells per block", ", ".join(f"{k}: {v:,}" for k, v in d["cells_per_block"].items())))
+    rows.append(("cells in total", f"{d['cells']:,}"))
+    rows.append(("maximum aspect ratio", f"{d['max_aspect_ratio']:.3g} (large in the wall layers by design)"))
+    rows.append(("boundary groups", ", ".join(d["groups"])))
+    width = max(len(k) for k, _ in rows)
+    lines = [f"{k.ljust(width)}  {v}" for k, v in rows]
+    for w in d.get("warnings", []):
+        lines.append(f"warning: {w}")
+    return "\n".join(lines)
