@@ -7,6 +7,7 @@ Exit codes: 0 done, 2 bad input (one line per problem on stderr, nothing written
 from __future__ import annotations
 
 import argparse
+import importlib
 import json
 import os
 import sys
@@ -60,7 +61,20 @@ def _parser() -> argparse.ArgumentParser:
     si.add_argument("-o", "--output", help="file to write (default <template>.toml)")
     si.add_argument("--force", action="store_true", help="overwrite an existing file")
 
+    sg = sub.add_parser("gci", help="grid-convergence uncertainty (Celik et al. 2008) from a results CSV")
+    sg.add_argument("results", help="CSV: one row per mesh with cells or h and named quantities")
+    sg.add_argument("--json", action="store_true", help="print the results as JSON")
+    sg.add_argument("--plot", metavar="FILE", help="write a PNG of each quantity against h")
+    sg.add_argument("--manifest", metavar="FILE", help="family.json giving h per level (default: beside the CSV)")
+    sg.add_argument("--area", type=float, help="2-D domain area [m2], to get h from cells")
+    sg.add_argument("--volume", type=float, help="3-D domain volume [m3], to get h from cells")
+    sg.add_argument("--fs", type=float, help="safety factor (default 1.25 for three or more meshes, 3 for two)")
+    sg.add_argument("--assumed-order", type=float, default=2.0, help="order for a two-mesh study (default 2)")
+    sg.add_argument("--formal-order", type=float, default=2.0, help="the scheme's formal order (default 2)")
+
     sub.add_parser("formats", help="list the output formats and the solvers that read them")
+    for module in EXTRA_COMMANDS:
+        COMMANDS.update(importlib.import_module(module).add_commands(sub))
     return p
 
 
@@ -126,6 +140,26 @@ def cmd_formats(args) -> int:
     return EXIT_OK
 
 
+def cmd_gci(args) -> int:
+    from .study.gci import gci_table, plot_gci, read_results_csv, study_rows, to_json
+
+    if args.area is not None and args.volume is not None:
+        raise InputError("gci: give --area (2-D) or --volume (3-D), not both")
+    dim = 2 if args.area is not None else 3 if args.volume is not None else None
+    size = args.area if args.area is not None else args.volume
+    if not Path(args.results).is_file():
+        raise InputError(f"gci: results file {args.results!r} does not exist")
+    rows = read_results_csv(args.results, dim=dim, size=size, manifest=args.manifest)
+    results = study_rows(rows, fs=args.fs, assumed_order=args.assumed_order, formal_order=args.formal_order)
+    if args.json:
+        print(json.dumps(to_json(results), indent=2))
+    else:
+        print(gci_table(results))
+    if args.plot:
+        print(f"wrote {plot_gci(results, args.plot)}", file=sys.stderr)
+    return EXIT_OK
+
+
 def cmd_build(args) -> int:
     from .build import build_case
 
@@ -145,7 +179,9 @@ def cmd_build(args) -> int:
     return EXIT_OK
 
 
-COMMANDS = {"plan": cmd_plan, "build": cmd_build, "init": cmd_init, "formats": cmd_formats}
+COMMANDS = {"plan": cmd_plan, "build": cmd_build, "init": cmd_init, "formats": cmd_formats, "gci": cmd_gci}
+#: Modules whose add_commands(subparsers) adds more commands and returns {name: function}.
+EXTRA_COMMANDS: list[str] = []
 
 
 def main(argv: list[str] | None = None) -> int:

@@ -83,3 +83,26 @@ def test_every_template_builds(template, tmp_path):
     cell_type = "quad" if plan["dimension"] == 2 else "hexahedron"
     assert sum(len(c.data) for c in m.cells if c.type == cell_type) == plan["cells"]
     assert set(plan["groups"]) <= set(m.field_data)
+
+
+def test_gci_command_on_the_published_example(tmp_path, capsys):
+    # Celik et al. (2008) Table 1: N = 18000, 8000, 4500; phi = 6.063, 5.972, 5.863
+    # -> p = 1.53, phi_ext21 = 6.1685, GCI_fine21 = 2.2 %
+    csv = tmp_path / "r.csv"
+    csv.write_text("mesh,cells,phi\nfine,18000,6.063\nmedium,8000,5.972\ncoarse,4500,5.863\n")
+    plot = tmp_path / "gci.png"
+    assert main(["gci", str(csv), "--area", "1", "--json", "--plot", str(plot)]) == 0
+    text = capsys.readouterr().out
+    d = json.loads(text)
+    res = d["quantities"]["phi"]["results"][0]
+    assert round(res["p"], 2) == 1.53
+    assert round(res["phi_ext21"], 4) == 6.1685
+    assert round(100 * res["gci_fine21"], 1) == 2.2
+    assert plot.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+def test_gci_bad_csv_is_exit_2(tmp_path, capsys):
+    csv = tmp_path / "r.csv"
+    csv.write_text("mesh,phi\nfine,1.0\n")
+    assert main(["gci", str(csv)]) == 2
+    assert "Traceback" not in capsys.readouterr().err

@@ -1,0 +1,1 @@
+"""Grid-refinement and domain studies: families, sweeps and grid-convergence uncertainty."""
