@@ -21,6 +21,9 @@ BLASIUS_DELTA99 = 4.91
 TURBULENT_DELTA99 = 0.37
 #: Engineering convention for the end of laminar flow on a smooth plate (e.g. Incropera).
 TRANSITION_RE = 5.0e5
+#: Below this Re_L a forced turbulent regime is refused: Schlichting's law is singular at
+#: Re_x = 2.1 and White's turns over at 16.7, so the plate's front part would have no Cf.
+TURBULENT_MIN_RE = 1.0e4
 #: Below this Re_x, "auto" still calls the flow laminar but warns it may be transitional.
 TRANSITIONAL_LOW = 1.0e5
 

@@ -26,11 +26,14 @@ def _quiet(_: str) -> None:
 def output_folder(output: str | os.PathLike | None, case_name: str) -> Path:
     """The output folder, checked: not a file, and creatable or writable."""
     out = Path(output) if output else Path("outputs") / case_name
-    if out.exists() and not out.is_dir():
-        raise InputError(f"-o {out}: is a file, not a folder")
-    probe = out
-    while not probe.exists():
-        probe = probe.parent
+    try:
+        if out.exists() and not out.is_dir():
+            raise InputError(f"-o {out}: is a file, not a folder")
+        probe = out
+        while not probe.exists():
+            probe = probe.parent
+    except PermissionError:
+        raise InputError(f"-o {out}: a folder on the way is not readable or writable") from None
     if not probe.is_dir():
         raise InputError(f"-o {out}: {probe} is a file, not a folder")
     if not os.access(probe, os.W_OK | os.X_OK):

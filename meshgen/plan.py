@@ -185,6 +185,11 @@ def resolve_flow(case: Case) -> tuple[FlowState, list[str]]:
         velocity = f.velocity
         re = velocity * f.length / nu
     regime, warnings = bl.regime_for(re, f.regime)
+    if regime == "turbulent" and re < bl.TURBULENT_MIN_RE:
+        raise CaseError(
+            f"flow.regime: turbulent at Re_L = {re:.3g}; the turbulent correlations need "
+            f"Re_L >= {bl.TURBULENT_MIN_RE:.0e} (use laminar or auto)"
+        )
     corr = f.correlation or bl.DEFAULT_CORRELATION[regime]
     if bl.CORRELATIONS[corr].regime != regime:
         raise CaseError(

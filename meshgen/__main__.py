@@ -1,0 +1,5 @@
+"""``python -m meshgen`` runs the command line."""
+
+from .cli import entry
+
+entry()
