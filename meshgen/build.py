@@ -56,9 +56,13 @@ def resolve_formats(names: list[str] | None, default: list[str]):
     return fmts
 
 
+#: Reports written beside every mesh (plan.json last, as the mark of a finished build).
+REPORT_FILES = ("bc.json", "bc.md", "plan.json")
+
+
 def planned_outputs(out: Path, stem: str, fmts) -> list[Path]:
     paths = [p for f in fmts for p in f.outputs(out, stem)]
-    return paths + [out / "plan.json"]
+    return paths + [out / name for name in REPORT_FILES]
 
 
 def build_plan(plan: Plan, out: Path, fmts, force: bool = False, pictures: bool = True,
@@ -91,8 +95,14 @@ def build_plan(plan: Plan, out: Path, fmts, force: bool = False, pictures: bool 
 
 
 def _after_build_hooks(plan: Plan, mesh, out: Path, pictures: bool, progress: Progress) -> list[Path]:
-    """Reports written beside the mesh (quality, boundary-condition sheet)."""
-    return []
+    """Reports written beside the mesh: the boundary-condition sheet."""
+    from .bc_sheet import bc_markdown, bc_sheet
+
+    sheet = bc_sheet(plan)
+    return [
+        write_text(out / "bc.json", json.dumps(sheet, indent=2) + "\n"),
+        write_text(out / "bc.md", bc_markdown(sheet)),
+    ]
 
 
 def build_case(case_path=None, overrides=None, output=None, formats=None, force=False,

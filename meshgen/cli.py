@@ -119,14 +119,19 @@ def cmd_plan(args) -> int:
     from .plan import make_plan
     from .report_text import CAUTION, plan_table
 
+    from .bc_sheet import bc_markdown, bc_sheet
+
     plan = make_plan(load_case(args.case, args.overrides))
     d = plan.to_dict()
+    sheet = bc_sheet(plan)
     if args.json:
+        d["boundary_conditions"] = sheet
         d["caution"] = CAUTION
         print(json.dumps(d, indent=2))
     else:
         print(plan_table(d))
         print()
+        print(bc_markdown(sheet).split("\n", 2)[2])
         print(CAUTION)
     return EXIT_OK
 
