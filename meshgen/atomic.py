@@ -17,6 +17,18 @@ from pathlib import Path
 TMP_PREFIX = ".meshgen-tmp-"
 
 
+def _umask() -> int:
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
+
+
+def _publish_mode(path: Path, directory: bool) -> None:
+    """mkstemp/mkdtemp create 0600/0700; give the result the mode a plain open() would."""
+    base = 0o777 if directory else 0o666
+    os.chmod(path, base & ~_umask())
+
+
 @contextmanager
 def atomic_file(target: Path) -> Iterator[Path]:
     """Yield a temporary path in ``target``'s folder; on success rename it to ``target``."""
@@ -27,6 +39,7 @@ def atomic_file(target: Path) -> Iterator[Path]:
     tmp_path = Path(tmp)
     try:
         yield tmp_path
+        _publish_mode(tmp_path, directory=False)
         os.replace(tmp_path, target)
     finally:
         if tmp_path.exists():
@@ -41,6 +54,10 @@ def atomic_dir(target: Path) -> Iterator[Path]:
     tmp_path = Path(tempfile.mkdtemp(prefix=TMP_PREFIX, dir=target.parent))
     try:
         yield tmp_path
+        _publish_mode(tmp_path, directory=True)
+        for sub in tmp_path.rglob("*"):
+            if sub.is_dir():
+                _publish_mode(sub, directory=True)
         if target.exists():
             old = Path(tempfile.mkdtemp(prefix=TMP_PREFIX, dir=target.parent))
             os.replace(target, old / "old")
@@ -61,12 +78,13 @@ def write_text(target: Path, text: str) -> Path:
 
 
 def clean_stale(folder: Path) -> list[Path]:
-    """Remove temporary files and folders a killed run left in ``folder``."""
+    """Remove temporary files and folders a killed run left in ``folder`` (and one level
+    down, where folder-shaped outputs such as ``constant/polyMesh`` are assembled)."""
     removed = []
     folder = Path(folder)
     if not folder.is_dir():
         return removed
-    for p in folder.glob(TMP_PREFIX + "*"):
+    for p in [*folder.glob(TMP_PREFIX + "*"), *folder.glob("*/" + TMP_PREFIX + "*")]:
         if p.is_dir():
             shutil.rmtree(p, ignore_errors=True)
         else:

@@ -112,3 +112,15 @@ def test_read_only_output_folder(tmp_path):
         assert list(ro.iterdir()) == []
     finally:
         shutil.rmtree(top, ignore_errors=True)
+
+
+def test_outputs_get_the_usual_permissions(tmp_path):
+    """Temporary files are created private; the published files must follow the umask."""
+    old = os.umask(0o022)
+    try:
+        assert main(["build", "-o", str(tmp_path), "--no-pictures", "--format", "msh",
+                     "--format", "polymesh"]) == 0
+    finally:
+        os.umask(old)
+    assert (tmp_path / "fairing-strip.msh").stat().st_mode & 0o777 == 0o644
+    assert (tmp_path / "constant" / "polyMesh").stat().st_mode & 0o777 == 0o755

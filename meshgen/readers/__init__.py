@@ -1,0 +1,1 @@
+"""Mesh readers, one module per format; each returns numpy arrays or a Mesh."""
