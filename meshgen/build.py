@@ -57,7 +57,7 @@ def resolve_formats(names: list[str] | None, default: list[str]):
 
 
 #: Reports written beside every mesh (plan.json last, as the mark of a finished build).
-REPORT_FILES = ("bc.json", "bc.md", "plan.json")
+REPORT_FILES = ("bc.json", "bc.md", "quality.json", "report.md", "plan.json")
 
 
 def planned_outputs(out: Path, stem: str, fmts) -> list[Path]:
@@ -94,15 +94,41 @@ def build_plan(plan: Plan, out: Path, fmts, force: bool = False, pictures: bool 
     return written
 
 
+def quality_for_plan(plan: Plan, mesh) -> dict:
+    """The quality report of a built mesh, with the boundary-layer section from its plan."""
+    from . import boundary_layer as bl
+    from .quality import boundary_layer_report, quality_report
+
+    f, w = plan.flow, plan.case.wall
+    x_ref = w.reference_station * f.length
+    cf = bl.skin_friction(bl.reynolds_x(x_ref, f.velocity, f.nu), f.correlation)
+    target = float(bl.y_plus(plan.first_cell_height, f.velocity, f.nu, cf))  # = wall.y_plus when sized by it
+    blr = boundary_layer_report(mesh, plan.case.names.wall, f.velocity, f.nu, f.regime, f.correlation,
+                                target, plate_length=f.length, x_ref=x_ref)
+    return quality_report(mesh, blr)
+
+
 def _after_build_hooks(plan: Plan, mesh, out: Path, pictures: bool, progress: Progress) -> list[Path]:
-    """Reports written beside the mesh: the boundary-condition sheet."""
+    """Reports written beside the mesh: boundary-condition sheet, quality report, pictures."""
     from .bc_sheet import bc_markdown, bc_sheet
+    from .quality import quality_markdown
 
     sheet = bc_sheet(plan)
-    return [
+    written = [
         write_text(out / "bc.json", json.dumps(sheet, indent=2) + "\n"),
         write_text(out / "bc.md", bc_markdown(sheet)),
     ]
+    progress("quality report")
+    report = quality_for_plan(plan, mesh)
+    pics: list[Path] = []
+    if pictures:
+        from .plots import make_pictures
+
+        progress("pictures")
+        pics = make_pictures(mesh, report, plan.case.name, out)
+    written.append(write_text(out / "quality.json", json.dumps(report, indent=2) + "\n"))
+    written.append(write_text(out / "report.md", quality_markdown(report, plan.case.name, pics)))
+    return written + pics
 
 
 def build_case(case_path=None, overrides=None, output=None, formats=None, force=False,

@@ -72,6 +72,11 @@ def _parser() -> argparse.ArgumentParser:
     sg.add_argument("--assumed-order", type=float, default=2.0, help="order for a two-mesh study (default 2)")
     sg.add_argument("--formal-order", type=float, default=2.0, help="the scheme's formal order (default 2)")
 
+    sn = sub.add_parser("inspect", help="quality report of a mesh file (MSH 4.1/2.2, VTU, SU2, polyMesh folder)")
+    sn.add_argument("mesh", help="mesh file, or an OpenFOAM case / polyMesh folder")
+    sn.add_argument("--json", action="store_true", help="print the report as JSON")
+    sn.add_argument("--pictures", metavar="DIR", help="write the pictures into DIR")
+
     sub.add_parser("formats", help="list the output formats and the solvers that read them")
     for module in EXTRA_COMMANDS:
         COMMANDS.update(importlib.import_module(module).add_commands(sub))
@@ -165,6 +170,50 @@ def cmd_gci(args) -> int:
     return EXIT_OK
 
 
+def _read_any(path: Path):
+    """A Mesh from any file the tool can read, chosen by suffix; a folder is a polyMesh."""
+    from .errors import ReadError
+
+    if not path.exists():
+        raise ReadError(f"inspect: {path} does not exist")
+    if path.is_dir():
+        from .readers.foam import polymesh_to_mesh
+
+        return polymesh_to_mesh(path)
+    suffix = path.suffix.lower()
+    if suffix == ".msh":
+        from .readers.msh import read_msh
+
+        return read_msh(path)
+    if suffix == ".vtu":
+        from .readers.vtu import read_vtu
+
+        return read_vtu(path)
+    if suffix == ".su2":
+        from .readers.su2 import read_su2
+
+        return read_su2(path)
+    raise ReadError(f"inspect: cannot read {path.name!r}; readable: .msh (4.1, 2.2), .vtu, .su2, a polyMesh folder")
+
+
+def cmd_inspect(args) -> int:
+    from .quality import quality_markdown, quality_report
+
+    path = Path(args.mesh)
+    mesh = _read_any(path)
+    report = quality_report(mesh)
+    pics = []
+    if args.pictures:
+        from .plots import make_pictures
+
+        pics = make_pictures(mesh, report, path.stem, Path(args.pictures))
+    if args.json:
+        print(json.dumps(report, indent=2))
+    else:
+        print(quality_markdown(report, path.stem, [p.name for p in pics]))
+    return EXIT_OK
+
+
 def cmd_build(args) -> int:
     from .build import build_case
 
@@ -184,7 +233,8 @@ def cmd_build(args) -> int:
     return EXIT_OK
 
 
-COMMANDS = {"plan": cmd_plan, "build": cmd_build, "init": cmd_init, "formats": cmd_formats, "gci": cmd_gci}
+COMMANDS = {"plan": cmd_plan, "build": cmd_build, "init": cmd_init, "formats": cmd_formats, "gci": cmd_gci,
+            "inspect": cmd_inspect}
 #: Modules whose add_commands(subparsers) adds more commands and returns {name: function}.
 EXTRA_COMMANDS: list[str] = []
 

@@ -18,6 +18,7 @@ from pathlib import Path
 import numpy as np
 
 from ..errors import ReadError
+from ..mesh import ROLES, Group, Mesh
 
 _COMMENTS = re.compile(rb"//[^\n]*|/\*.*?\*/", re.DOTALL)
 _FOAMFILE = re.compile(rb"FoamFile\s*\{(.*?)\}", re.DOTALL)
@@ -134,3 +135,47 @@ def read_polymesh(case_dir: Path) -> dict:
     mesh["n_cells"] = int(max(cells)) + 1
     mesh["n_internal_faces"] = int(mesh["neighbour"].size)
     return mesh
+
+
+def _patch_role(name: str, kind: str) -> str:
+    if kind == "wall":
+        return "wall"
+    if kind in ("symmetryPlane", "symmetry"):
+        return "symmetry"
+    if name in ROLES:
+        return name
+    if kind == "empty":
+        return "back" if "back" in name else "front"
+    return "farfield"
+
+
+def polymesh_to_mesh(case_dir: Path) -> Mesh:
+    """A hexahedral Mesh from a polyMesh of quad faces, six per cell (vectorised).
+
+    Each cell gathers its faces outward (owner faces as stored, neighbour faces reversed);
+    its first face, read outward, is the VTK base face (0, 3, 2, 1), and each base node's
+    partner across the cell is the node it shares an edge with off the base.
+    """
+    pm = read_polymesh(case_dir)
+    faces, owner, neighbour = pm["faces"], pm["owner"], pm["neighbour"]
+    n_cells, n_int = pm["n_cells"], pm["n_internal_faces"]
+    cell_of = np.concatenate([owner, neighbour])
+    oriented = np.concatenate([faces, faces[:n_int, ::-1]])
+    counts = np.bincount(cell_of, minlength=n_cells)
+    if faces.shape[1] != 4 or np.any(counts != 6):
+        raise ReadError(f"{case_dir}: only hexahedral polyMeshes (six quad faces per cell) can be inspected")
+    per_cell = oriented[np.argsort(cell_of, kind="stable")].reshape(n_cells, 6, 4)
+    base = per_cell[:, 0, :]
+    bottom = base[:, [0, 3, 2, 1]]
+    edges = np.stack([per_cell, np.roll(per_cell, -1, axis=2)], axis=3).reshape(n_cells, 24, 2)
+    off_base = ~np.any(edges[:, :, 1, None] == base[:, None, :], axis=2)
+    match = (edges[:, None, :, 0] == bottom[:, :, None]) & off_base[:, None, :]
+    if not np.all(match.any(axis=2)):
+        raise ReadError(f"{case_dir}: a cell is not a hexahedron")
+    top = np.take_along_axis(edges[:, :, 1], np.argmax(match, axis=2), axis=1)
+    cells = np.concatenate([bottom, top], axis=1).astype(np.int64)
+    groups = tuple(
+        Group(name, _patch_role(name, kind), faces[start : start + n].astype(np.int64))
+        for name, (kind, start, n) in pm["patches"].items()
+    )
+    return Mesh(points=pm["points"], cells=cells, groups=groups)
