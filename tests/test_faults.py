@@ -124,3 +124,16 @@ def test_outputs_get_the_usual_permissions(tmp_path):
         os.umask(old)
     assert (tmp_path / "fairing-strip.msh").stat().st_mode & 0o777 == 0o644
     assert (tmp_path / "constant" / "polyMesh").stat().st_mode & 0o777 == 0o755
+
+
+def test_a_closed_pipe_after_gmsh_raises_instead_of_killing():
+    """gmsh.initialize() resets SIGPIPE at the C level; the session wrapper restores it."""
+    code = (
+        "import os\n"
+        "from meshgen.gmsh_session import gmsh_session\n"
+        "with gmsh_session():\n    pass\n"
+        "r, w = os.pipe(); os.close(r)\n"
+        "try:\n    os.write(w, b'x')\nexcept BrokenPipeError:\n    print('raised')\n"
+    )
+    proc = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=60)
+    assert proc.returncode == 0 and "raised" in proc.stdout, (proc.returncode, proc.stderr)

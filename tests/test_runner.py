@@ -11,6 +11,7 @@ import numpy as np
 import pytest
 
 from meshgen.errors import InputError
+from meshgen.gmsh_session import gmsh_session
 from meshgen.study.commands import finish_report
 from meshgen.study.family import family_study
 from meshgen.study.runner import RunReport, Study, run_study
@@ -130,6 +131,10 @@ def test_interrupt_stops_the_workers_and_a_rerun_resumes(tmp_path):
 
 def test_a_worker_that_dies_is_reported(tmp_path):
     st = slow_and_quick()
+    # gmsh.initialize() resets SIGPIPE to its default action in this process: a write to the
+    # dead worker's pipe must still raise (and be handled), not kill the process (exit 141)
+    with gmsh_session():
+        pass
 
     def kill_workers():
         for p in workers_alive():
