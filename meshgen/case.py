@@ -287,14 +287,20 @@ def load_case(path: str | Path | None = None, overrides: list[str] | None = None
 
 
 def case_to_toml(case: Case) -> str:
-    """The resolved case as TOML (for manifests and reproducibility)."""
+    """The resolved case as TOML: the values that were set, and every default as a comment.
+
+    Writing only what was set keeps the text loadable (a default y_plus beside a given
+    first_cell_height would over-determine the wall) while the comments show the rest.
+    """
     lines = [f'name = "{case.name}"']
     for section in SECTIONS:
+        sec = getattr(case, section)
         lines.append(f"\n[{section}]")
-        for key, value in getattr(case, section).model_dump().items():
+        for key, value in sec.model_dump().items():
             if value is None:
                 continue
-            lines.append(f"{key} = {_toml_value(value)}")
+            prefix = "" if key in sec.model_fields_set else "# (default) "
+            lines.append(f"{prefix}{key} = {_toml_value(value)}")
     return "\n".join(lines) + "\n"
 
 

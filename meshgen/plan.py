@@ -9,6 +9,7 @@ refinement family sample the same mappings (``coarsen``).
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field, replace
 
 import numpy as np
@@ -48,8 +49,13 @@ class Plan:
     blocks: tuple[Block, ...]
     delta99_end: float
     domain_height: float
-    warnings: tuple[str, ...] = field(default=())
+    setup_warnings: tuple[str, ...] = field(default=())  # from the flow and the domain
     level: int = 0  # 0 = the case as given; k = coarsened k times in a family
+
+    @property
+    def warnings(self) -> tuple[str, ...]:
+        """Warnings of the case and of this plan's own resolution (per family level)."""
+        return self.setup_warnings + resolution_warnings(self.y, self.delta99_end)
 
     @property
     def dim(self) -> int:
@@ -281,15 +287,24 @@ def make_plan(case: Case) -> Plan:
         nz = case.domain.span_cells
         z = np.linspace(0.0, case.domain.span * xl, nz + 1)
     _check_cell_limit(case, (x.size - 1) * (y.size - 1) * nz)
-    cells_ref = int(np.searchsorted(y, delta_end, side="right") - 1)
-    if cells_ref < 10:
-        warnings.append(
-            f"only {cells_ref} wall-normal cells inside delta99 at the plate end; "
-            "lower wall.growth_ratio or wall.max_spacing (common practice wants 20 or more)"
-        )
     if case.domain.height_factor < 10:
         warnings.append("domain.height_factor below 10: the top boundary may affect the boundary layer")
     return Plan(case, flow, x, y, z, blocks, delta_end, height, tuple(warnings))
+
+
+def resolution_warnings(y: np.ndarray, delta_end: float) -> tuple[str, ...]:
+    cells = int(np.searchsorted(y, delta_end, side="right") - 1)
+    if cells >= 10:
+        return ()
+    return (
+        f"only {cells} wall-normal cells inside delta99 at the plate end; lower "
+        "wall.growth_ratio or wall.max_spacing (common practice wants 20 or more)",
+    )
+
+
+def _count(cells: int, factor: float, least: int) -> int:
+    """cells / factor rounded half up (not Python's half-to-even), at least ``least``."""
+    return max(least, int(math.floor(cells / factor + 0.5)))
 
 
 def coarsen(plan: Plan, factor: float, level: int) -> Plan:
@@ -302,15 +317,15 @@ def coarsen(plan: Plan, factor: float, level: int) -> Plan:
     parts, blocks, start = [], [], 0
     for b in plan.blocks:
         seg = plan.x[b.i0 : b.i1 + 1]
-        n = max(1, int(round((seg.size - 1) / factor)))
+        n = _count(seg.size - 1, factor, 1)
         new = resample(seg, n)
         parts.append(new if not parts else new[1:])
         blocks.append(Block(b.name, start, start + n))
         start += n
-    y = resample(plan.y, max(2, int(round((plan.y.size - 1) / factor))))
+    y = resample(plan.y, _count(plan.y.size - 1, factor, 2))
     z = None
     if plan.z is not None:
-        z = resample(plan.z, max(1, int(round((plan.z.size - 1) / factor))))
+        z = resample(plan.z, _count(plan.z.size - 1, factor, 1))
     return replace(plan, x=np.concatenate(parts), y=y, z=z, blocks=tuple(blocks), level=level)
 
 

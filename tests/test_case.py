@@ -107,3 +107,14 @@ def test_sea_level_air_from_coolprop():
     s = fluid_state("Air", 288.15, 101325.0)
     assert s.density == pytest.approx(1.2250, rel=1e-2)
     assert s.viscosity == pytest.approx(1.7894e-5, rel=1e-2)
+
+
+@pytest.mark.parametrize("overrides", [[], ["wall.y_plus=", "wall.first_cell_height=2e-5"],
+                                       ["wall.y_plus=", "wall.cells=60", "wall.growth_ratio=1.1"]])
+def test_resolved_toml_loads_back_for_every_wall_mode(tmp_path, overrides):
+    case = load_case(None, overrides)
+    p = tmp_path / "c.toml"
+    p.write_text(case_to_toml(case))
+    back = load_case(p)
+    assert back == case
+    assert make_plan(back).first_cell_height == make_plan(case).first_cell_height

@@ -259,8 +259,8 @@ def test_too_coarse_level_is_refused_with_level_and_count():
     # level 4 divides by 16: 20 upstream cells round to 1, 48 wall-normal cells to 3
     assert "level 4" in text and "upstream block with 1 streamwise" in text and "3 wall-normal" in text
     assert "at most 4 levels" in text
-    # level 3 (factor 8) still fits: 2 + 8 + 2 streamwise cells (20/8 rounds to 2) over 6
-    assert family(SMALL, 4, 2.0)[0].members[-1].plan.cell_count == (2 + 8 + 2) * 6
+    # level 3 (factor 8) still fits: 3 + 8 + 3 streamwise cells (20/8 = 2.5 rounds half up) over 6
+    assert family(SMALL, 4, 2.0)[0].members[-1].plan.cell_count == (3 + 8 + 3) * 6
 
 
 def test_three_d_family_uses_the_volume():
@@ -290,3 +290,20 @@ def test_manifest_is_read_by_the_gci_reader(small_family):
     levels = read_family_levels(out / "family.json")
     assert [(lv["name"], lv["cells"], lv["h"]) for lv in levels] == \
         [(lv["name"], lv["cells"], lv["h"]) for lv in manifest["levels"]]
+
+
+def test_coarse_levels_carry_their_own_resolution_warning():
+    from meshgen.case import load_case
+    from meshgen.plan import coarsen, make_plan
+
+    fine = make_plan(load_case(None, ["wall.growth_ratio=1.05"]))
+    assert not any("inside delta99" in w for w in fine.warnings)
+    coarse = coarsen(fine, 16, level=4)
+    assert any("inside delta99" in w for w in coarse.warnings)
+
+
+def test_coarsened_counts_round_half_up():
+    from meshgen.plan import _count
+
+    assert _count(20, 8, 1) == 3  # 2.5 -> 3 (Python's round would give 2)
+    assert _count(544, 2, 1) == 272
