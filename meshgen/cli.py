@@ -151,7 +151,9 @@ def cmd_formats(args) -> int:
 
 
 def cmd_gci(args) -> int:
-    from .study.gci import gci_table, plot_gci, read_results_csv, study_rows, to_json
+    from .study.gci import to_json
+    from .study.gci_report import gci_table, plot_gci
+    from .study.results import read_results_csv, study_rows
 
     if args.area is not None and args.volume is not None:
         raise InputError("gci: give --area (2-D) or --volume (3-D), not both")

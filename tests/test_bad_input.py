@@ -71,6 +71,9 @@ CASES = [
     ("gci-area-and-volume", {"r.csv": "cells,phi\n100,1\n50,2\n25,3\n"},
      ["gci", "r.csv", "--area", "1", "--volume", "1"], "not both"),
     ("gci-bad-number-arg", {"r.csv": "h,phi\n0.1,1\n0.2,2\n"}, ["gci", "r.csv", "--fs", "big"], "invalid float"),
+    ("family-too-few-levels-small-ratio", {}, ["family", "--levels", "1", "--ratio", "1.05"], "--ratio 1.05"),
+    ("sweep-unknown-vary-key", {}, ["sweep", "--vary", "wall.y_plus=1,2"], "not a domain key"),
+    ("inspect-missing-file", {}, ["inspect", "none.msh"], "does not exist"),
 ]
 
 

@@ -284,7 +284,7 @@ def test_three_d_family_uses_the_volume():
 
 def test_manifest_is_read_by_the_gci_reader(small_family):
     # the grid-convergence module sizes CSV rows by the family manifest's levels
-    from meshgen.study.gci import read_family_levels
+    from meshgen.study.results import read_family_levels
 
     out, _, manifest = small_family
     levels = read_family_levels(out / "family.json")

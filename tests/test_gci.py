@@ -1,4 +1,4 @@
-"""Grid-convergence uncertainty (meshgen.study.gci) against published worked examples.
+"""Grid-convergence uncertainty (meshgen.study.gci, results, gci_report) against published examples.
 
 Sources: Celik et al. (2008), J. Fluids Eng. 130(7) 078001, Table 1 (three grids); the NASA
 NPARC Alliance grid-convergence tutorial (two grids with a known order); Roache (1994),
@@ -17,6 +17,9 @@ from hypothesis import strategies as st
 
 from meshgen.errors import InputError
 from meshgen.study import gci
+from meshgen.study.domain import sweep_summary
+from meshgen.study.gci_report import gci_table, plot_gci
+from meshgen.study.results import quantity_columns, read_results_csv, study_rows
 
 CELIK_CELLS = [18000, 8000, 4500]
 CELIK_PHI = [6.063, 5.972, 5.863]
@@ -274,10 +277,10 @@ def test_csv_with_h_and_two_quantities(tmp_path):
         tmp_path / "r.csv",
         "mesh,h,cd,cf,notes\ncoarse,4,1.16,2,x\nfine,1,1.01,1.5,y\nmid,2,1.04,1.6,z\n",
     )
-    rows = gci.read_results_csv(csv)
+    rows = read_results_csv(csv)
     assert [r["mesh"] for r in rows] == ["fine", "mid", "coarse"]
-    assert gci.quantity_columns(rows) == ["cd", "cf"]  # the text column is not a quantity
-    res = gci.study_rows(rows)
+    assert quantity_columns(rows) == ["cd", "cf"]  # the text column is not a quantity
+    res = study_rows(rows)
     assert set(res["quantities"]) == {"cd", "cf"}
     # Computed: cd = 1 + 0.01 h^2 on h = 1, 2, 4 -> p = 2, phi_ext = 1.
     assert res["quantities"]["cd"]["results"][0]["p"] == pytest.approx(2.0, rel=1e-9)
@@ -288,13 +291,13 @@ def test_csv_with_cells_and_area_reproduces_celik(tmp_path):
     csv = write(
         tmp_path / "r.csv", "level,cells,phi\nL1,18000,6.063\nL2,8000,5.972\nL3,4500,5.863\n"
     )
-    rows = gci.read_results_csv(csv, dim=2, size=2.5)
+    rows = read_results_csv(csv, dim=2, size=2.5)
     assert [r["cells"] for r in rows] == CELIK_CELLS
-    res = gci.study_rows(rows)["quantities"]["phi"]["results"][0]
+    res = study_rows(rows)["quantities"]["phi"]["results"][0]
     assert round(100 * res["gci_fine21"], 1) == 2.2  # Celik Table 1: GCI_fine21 = 2.2 %
-    text = gci.gci_table(gci.study_rows(rows))
+    text = gci_table(study_rows(rows))
     assert "L1 / L2 / L3" in text and "monotonic" in text
-    data = json.loads(json.dumps(gci.to_json(gci.study_rows(rows)), allow_nan=False))
+    data = json.loads(json.dumps(gci.to_json(study_rows(rows)), allow_nan=False))
     assert round(data["quantities"]["phi"]["results"][0]["p"], 2) == 1.53  # Celik Table 1
 
 
@@ -305,11 +308,11 @@ def test_csv_takes_h_from_family_json_beside_it(tmp_path):
         {"name": "L3", "cells": 4500, "h": 0.02},
     ]
     (tmp_path / "family.json").write_text(json.dumps({"levels": levels}), encoding="utf-8")
-    by_name = gci.read_results_csv(
+    by_name = read_results_csv(
         write(tmp_path / "a.csv", "mesh,cells,cd\nL2,8000,2\nL1,18000,1\nL3,4500,3\n")
     )
     assert [r["h"] for r in by_name] == [0.01, 0.015, 0.02]
-    by_cells = gci.read_results_csv(write(tmp_path / "b.csv", "cells,cd\n4500,3\n18000,1\n"))
+    by_cells = read_results_csv(write(tmp_path / "b.csv", "cells,cd\n4500,3\n18000,1\n"))
     assert [r["h"] for r in by_cells] == [0.01, 0.02]
 
 
@@ -327,7 +330,7 @@ def test_csv_manifest_mismatch(tmp_path):
     )
     csv = write(tmp_path / "r.csv", "mesh,cells,cd\nL1,100,1\nL2,30,2\nL9,7,3\n")
     with pytest.raises(InputError) as err:
-        gci.read_results_csv(csv, manifest=manifest)
+        read_results_csv(csv, manifest=manifest)
     assert len(err.value.problems) == 2
     assert "level 'L2'" in err.value.problems[0] and "25" in err.value.problems[0]
     assert "L9" in err.value.problems[1]
@@ -340,19 +343,19 @@ def test_bad_manifest(tmp_path):
     )
     csv = write(tmp_path / "r.csv", "mesh,cells,cd\nL1,100,1\nL2,30,2\n")
     with pytest.raises(InputError) as err:
-        gci.read_results_csv(csv)
+        read_results_csv(csv)
     assert len(err.value.problems) == 2
     assert "levels[1].h = -1" in err.value.problems[0]
     assert "levels[2]: has neither 'name' nor 'cells'" in err.value.problems[1]
     manifest.write_text("{not json")
     with pytest.raises(InputError, match="not a readable JSON manifest"):
-        gci.read_results_csv(csv)
+        read_results_csv(csv)
 
 
 def test_csv_cells_without_size_or_manifest(tmp_path):
     csv = write(tmp_path / "r.csv", "cells,cd\n100,1\n25,2\n")
     with pytest.raises(InputError, match="family.json"):
-        gci.read_results_csv(csv)
+        read_results_csv(csv)
 
 
 @pytest.mark.parametrize(
@@ -372,14 +375,14 @@ def test_csv_cells_without_size_or_manifest(tmp_path):
 )
 def test_csv_errors(tmp_path, text, expected):
     with pytest.raises(InputError) as err:
-        gci.read_results_csv(write(tmp_path / "r.csv", text), dim=2, size=1.0)
+        read_results_csv(write(tmp_path / "r.csv", text), dim=2, size=1.0)
     assert any(expected in line for line in err.value.problems), err.value.problems
 
 
 def test_csv_reports_every_problem_on_its_own_line(tmp_path):
     csv = write(tmp_path / "r.csv", "h,cd,cf\n1,x,1\n2,2,y\n")
     with pytest.raises(InputError) as err:
-        gci.read_results_csv(csv)
+        read_results_csv(csv)
     assert len(err.value.problems) == 2
     assert "line 2, column 'cd'" in err.value.problems[0]
     assert "line 3, column 'cf'" in err.value.problems[1]
@@ -397,7 +400,7 @@ def test_plot_is_a_png(tmp_path):
             "cd": gci.study(NPARC_PHI, h=[1.0, 2.0]),
         }
     }
-    out = gci.plot_gci(results, tmp_path / "sub" / "gci.png")
+    out = plot_gci(results, tmp_path / "sub" / "gci.png")
     data = out.read_bytes()
     assert data[:8] == b"\x89PNG\r\n\x1a\n"  # PNG signature (ISO/IEC 15948)
     assert len(data) > 20_000  # two labelled subplots, not an empty canvas
@@ -420,7 +423,7 @@ def test_sweep_summary():
     cf = 0.6641 / math.sqrt(1e4)
     offsets = {10.0: 0.026, 15.0: 0.009, 20.0: 0.006, 40.0: 0.0}
     rows = [{"height_factor": k, "cf": cf * (1 + o), "cd": 2 * cf} for k, o in offsets.items()]
-    out = gci.sweep_summary(rows, "height_factor", ["cf", "cd"], tol=0.01)
+    out = sweep_summary(rows, "height_factor", ["cf", "cd"], tol=0.01)
     assert out["reference"]["height_factor"] == 40.0
     variants = out["quantities"]["cf"]["variants"]
     np.testing.assert_allclose(
@@ -434,8 +437,8 @@ def test_sweep_summary():
 def test_sweep_summary_errors():
     rows = [{"H": 10, "cf": 1.0}, {"H": 20, "cf": 0.0}]
     with pytest.raises(InputError, match="reference variant"):
-        gci.sweep_summary(rows, "H", "cf", 0.01)
+        sweep_summary(rows, "H", "cf", 0.01)
     with pytest.raises(InputError, match="missing"):
-        gci.sweep_summary(rows, "L", "cf", 0.01)
+        sweep_summary(rows, "L", "cf", 0.01)
     with pytest.raises(InputError, match="appears twice"):
-        gci.sweep_summary([{"H": 20, "cf": 1.0}, {"H": 20, "cf": 2.0}], "H", "cf", 0.01)
+        sweep_summary([{"H": 20, "cf": 1.0}, {"H": 20, "cf": 2.0}], "H", "cf", 0.01)

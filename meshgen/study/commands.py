@@ -1,10 +1,12 @@
-"""The ``family`` and ``sweep`` commands, for ``meshgen.cli`` to add to its subparsers.
+"""The ``family``, ``sweep`` and ``domain`` commands, for ``meshgen.cli`` to add to its subparsers.
 
-``add_commands(sub)`` adds both parsers and returns {"family": cmd_family, "sweep":
-cmd_sweep}; each command takes the parsed arguments and returns an exit code (0 all
-built, 1 some member failed, with a summary on stderr), raising InputError for bad input
-before anything is written. Output folders default to ``outputs/<case name>-family`` and
-``outputs/<case name>-sweep``.
+``add_commands(sub)`` adds the parsers and returns {"family": cmd_family, "sweep":
+cmd_sweep, "domain": cmd_domain}; each command takes the parsed arguments and returns an
+exit code, raising InputError for bad input before anything is written. ``family`` and
+``sweep`` return 0 when every member is built and 1 when some member failed (with a
+summary on stderr); their output folders default to ``outputs/<case name>-family`` and
+``outputs/<case name>-sweep``. ``domain`` summarises a sweep's results CSV (domain.py,
+domain_report.py) and returns 0 whatever the verdict: the verdict is in its output.
 
 The manifests record the arguments that decide the meshes (the case, ``--set``,
 ``--levels``/``--ratio`` or ``--vary``, ``--format``); ``-o``, ``--workers``,
@@ -15,10 +17,15 @@ out and a Dask run's manifest equals a local run's apart from ``created``.
 from __future__ import annotations
 
 import argparse
+import json
 import os
 import sys
+from pathlib import Path
 
 from ..build import output_folder
+from ..errors import InputError, WriteError
+from .domain import DEFAULT_TOL, domain_summary
+from .domain_report import domain_table, plot_domain, verdict
 from .runner import RunReport, Study, run_study
 
 EXIT_OK, EXIT_FAIL = 0, 1
@@ -59,7 +66,19 @@ def add_commands(sub) -> dict:
                     help="domain key and its values, repeatable (cartesian product): domain.height_factor, "
                          "domain.upstream, domain.downstream, domain.span")
     _run_args(ss)
-    return {"family": cmd_family, "sweep": cmd_sweep}
+
+    sd = sub.add_parser("domain", help="domain independence: each sweep variant against the largest domain")
+    sd.add_argument("results", help="CSV: one row per variant, a key column (e.g. height_factor) or a 'variant' "
+                                    "column of folder names, and one or more quantity columns")
+    sd.add_argument("--key", metavar="COLUMN",
+                    help="the column or sweep key that sizes the domain (default: the only one that varies)")
+    sd.add_argument("--tol", type=float, default=DEFAULT_TOL, metavar="FRACTION",
+                    help="accepted relative change against the largest domain (default 0.01, i.e. 1 %%)")
+    sd.add_argument("--json", action="store_true", help="print the summary as JSON")
+    sd.add_argument("--plot", metavar="FILE", help="write a PNG (.png) of each quantity against the key")
+    sd.add_argument("--manifest", metavar="FILE",
+                    help="sweep.json giving each variant's key values (default: beside the CSV)")
+    return {"family": cmd_family, "sweep": cmd_sweep, "domain": cmd_domain}
 
 
 def _arguments(command: str, args, extra: list[str]) -> list[str]:
@@ -111,3 +130,38 @@ def cmd_sweep(args) -> int:
     study, warnings = sweep_study(args.case, args.overrides, args.vary, args.formats,
                                   _arguments("sweep", args, extra))
     return _run(study, warnings, args, study.members[0].plan.case.name)
+
+
+def _plot_problems(plot: str | None) -> list[str]:
+    """Why --plot FILE cannot be written, checked before anything is read or written."""
+    if plot is None:
+        return []
+    path = Path(plot)
+    if path.suffix.lower() != ".png":
+        return [f"--plot {plot}: the picture is a PNG; give a file name ending in .png"]
+    if path.is_dir():
+        return [f"--plot {plot}: is a folder; give a file name ending in .png"]
+    parent = next((p for p in path.parents if p.exists()), None)
+    if parent is not None and not parent.is_dir():
+        return [f"--plot {plot}: {parent} is a file, not a folder"]
+    return []
+
+
+def cmd_domain(args) -> int:
+    problems = _plot_problems(args.plot)
+    if not (0 < args.tol < 1):  # also refuses NaN
+        problems.append(f"--tol {args.tol}: a fraction above 0 and below 1, e.g. 0.01 for 1 %")
+    if problems:
+        raise InputError(problems)
+    summary = domain_summary(args.results, key=args.key, tol=args.tol, manifest=args.manifest)
+    if args.json:
+        print(json.dumps({**summary, "verdict": verdict(summary)}, indent=2, allow_nan=False))
+    else:
+        print(domain_table(summary))
+    if args.plot:
+        try:
+            written = plot_domain(summary, args.plot)
+        except OSError as exc:
+            raise WriteError(f"--plot {args.plot}: cannot be written ({exc.strerror or exc})") from None
+        print(f"wrote {written}", file=sys.stderr)
+    return EXIT_OK
