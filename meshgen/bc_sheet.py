@@ -115,9 +115,9 @@ def bc_markdown(sheet: dict) -> str:
     rec = t["recommended"]
     lines += [
         "",
-        f"Recommended ranges: omega {rec['omega'][0]:.4g} to {rec['omega'][1]:.4g} 1/s and "
+        (f"Recommended ranges: omega {rec['omega'][0]:.4g} to {rec['omega'][1]:.4g} 1/s and "
         f"k {rec['k'][0]:.4g} to {rec['k'][1]:.4g} m2/s2 ({rec['sources']['k-omega SST']}); "
-        f"nu_tilde 3 to 5 nu ({rec['sources']['Spalart-Allmaras']}).",
+        f"nu_tilde 3 to 5 nu ({rec['sources']['Spalart-Allmaras']})."),
     ]
     lines += [f"- note: {n}" for n in t["notes"]]
     lines += ["", "These are a-priori free-stream values; check them against your solver's guidance."]

@@ -26,7 +26,7 @@ class ArgumentError(InputError):
 class _Parser(argparse.ArgumentParser):
     """argparse that raises instead of exiting, so bad arguments get exit code 2 cleanly."""
 
-    def error(self, message: str):  # noqa: D401
+    def error(self, message: str):
         raise ArgumentError(f"{self.prog}: {message}")
 
 
@@ -120,11 +120,10 @@ def cmd_init(args) -> int:
 
 
 def cmd_plan(args) -> int:
+    from .bc_sheet import bc_markdown, bc_sheet
     from .case import load_case
     from .plan import make_plan
     from .report_text import CAUTION, plan_table
-
-    from .bc_sheet import bc_markdown, bc_sheet
 
     plan = make_plan(load_case(args.case, args.overrides))
     d = plan.to_dict()

@@ -203,7 +203,7 @@ def resolve_flow(case: Case) -> tuple[FlowState, list[str]]:
             f"regime is {regime}; valid for {regime}: "
             + ", ".join(c.name for c in bl.CORRELATIONS.values() if c.regime == regime)
         )
-    lo, hi = bl.CORRELATIONS[corr].re_range
+    _, hi = bl.CORRELATIONS[corr].re_range
     if re > hi:
         warnings.append(f"Re_L = {re:.3g} is above the stated range of the {corr} correlation (up to {hi:.0e})")
     return (
@@ -297,14 +297,14 @@ def resolution_warnings(y: np.ndarray, delta_end: float) -> tuple[str, ...]:
     if cells >= 10:
         return ()
     return (
-        f"only {cells} wall-normal cells inside delta99 at the plate end; lower "
-        "wall.growth_ratio or wall.max_spacing (common practice wants 20 or more)",
+        (f"only {cells} wall-normal cells inside delta99 at the plate end; lower "
+        "wall.growth_ratio or wall.max_spacing (common practice wants 20 or more)"),
     )
 
 
 def _count(cells: int, factor: float, least: int) -> int:
     """cells / factor rounded half up (not Python's half-to-even), at least ``least``."""
-    return max(least, int(math.floor(cells / factor + 0.5)))
+    return max(least, math.floor(cells / factor + 0.5))
 
 
 def coarsen(plan: Plan, factor: float, level: int) -> Plan:
@@ -336,4 +336,4 @@ def spacing_summary(nodes: np.ndarray) -> dict[str, float]:
             "max_growth": float(max(g.max(), 1.0 / g.min()))}
 
 
-__all__ = ["Plan", "FlowState", "make_plan", "coarsen", "resolve_flow", "spacing_summary"]
+__all__ = ["FlowState", "Plan", "coarsen", "make_plan", "resolve_flow", "spacing_summary"]

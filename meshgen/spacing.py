@@ -104,7 +104,7 @@ def capped_geometric(length: float, first: float, ratio: float, cap: float,
         n = max(1, math.ceil(length / first - 1e-9))
         _check_count(n, what)
         return _stretch_tail(np.arange(n + 1) * first, length, first)
-    m = int(math.floor(math.log(cap / first) / math.log(ratio))) + 1  # cells below the cap
+    m = math.floor(math.log(cap / first) / math.log(ratio)) + 1  # cells below the cap
     grown = geometric_nodes(first, ratio, m)
     if grown[-1] >= length:
         # The layer reaches the far end before the cap: keep growing, fit the ratio.
@@ -120,7 +120,7 @@ def capped_geometric(length: float, first: float, ratio: float, cap: float,
     last = first * ratio ** (m - 1)
     rest = length - grown[-1]
     _check_count(rest / last, what)
-    n_uniform = max(1, int(math.floor(rest / last + 1e-9)))
+    n_uniform = max(1, math.floor(rest / last + 1e-9))
     uniform = grown[-1] + np.arange(1, n_uniform + 1) * (rest / n_uniform)
     nodes = np.concatenate([grown, uniform])
     nodes[-1] = length

@@ -31,7 +31,7 @@ def _gmsh_read(path):
             name = gmsh.model.getPhysicalName(dim, tag)
             count = 0
             for ent in gmsh.model.getEntitiesForPhysicalGroup(dim, tag):
-                types, tags, _ = gmsh.model.mesh.getElements(dim, ent)
+                _, tags, _ = gmsh.model.mesh.getElements(dim, ent)
                 count += sum(len(t) for t in tags)
             groups[name] = (dim, count)
         _, coords, _ = gmsh.model.mesh.getNodes()

@@ -80,7 +80,7 @@ def test_polymesh_patches(built):
 def test_cgns_passes_cgnscheck_and_counts(built):
     out, plan, mesh = built
     path = out / f"{plan.case.name}.cgns"
-    res = subprocess.run(["cgnscheck", str(path)], capture_output=True, text=True, timeout=120)
+    res = subprocess.run(["cgnscheck", str(path)], capture_output=True, text=True, timeout=120, check=False)
     assert "ERROR" not in res.stdout.upper().replace("0 ERRORS", ""), res.stdout[-2000:]
     with h5py.File(path, "r") as f:
         base = next(v for v in f.values() if isinstance(v, h5py.Group) and v.attrs["label"].tobytes().startswith(b"CGNSBase_t"))
@@ -98,7 +98,7 @@ def test_plot3d_read_by_plot3d_to_cgns(built, tmp_path):
     grid = out / f"{plan.case.name}.xyz"
     target = tmp_path / "from_p3d.cgns"
     res = subprocess.run(["plot3d_to_cgns", "-u", "-d", str(grid), str(target)], capture_output=True,
-                         text=True, timeout=120)
+                         text=True, timeout=120, check=False)
     assert res.returncode == 0 and target.is_file(), res.stdout + res.stderr
     side = json.loads((out / f"{plan.case.name}.p3d.json").read_text())
     assert {g["name"] for g in side["groups"]} == set(mesh.group_sizes())

@@ -10,8 +10,8 @@ from meshgen.case import load_case
 from meshgen.cli import main
 from meshgen.plan import make_plan
 from meshgen.quality import quality_report
-from meshgen.verify import cell_measures, verify_mesh
 from meshgen.readers.foam import polymesh_to_mesh
+from meshgen.verify import cell_measures, verify_mesh
 
 OVERRIDES = ["domain.span=0.05", "domain.span_cells=2"]
 
@@ -73,6 +73,7 @@ def test_unreadable_files_are_exit_2(tmp_path, content, name, capsys):
 def test_untagged_mesh_is_exit_2(tmp_path, capsys):
     # an MSH file with cells but no physical groups
     import gmsh  # noqa: F401
+
     from meshgen.gmsh_session import gmsh_session
 
     p = tmp_path / "bare.msh"

@@ -7,7 +7,13 @@ from hypothesis import strategies as st
 
 from meshgen.errors import CaseError
 from meshgen.spacing import (
-    capped_geometric, geometric_length, geometric_nodes, growth_ratios, resample, solve_geometric, two_sided,
+    capped_geometric,
+    geometric_length,
+    geometric_nodes,
+    growth_ratios,
+    resample,
+    solve_geometric,
+    two_sided,
 )
 
 

@@ -53,9 +53,9 @@ def vtu_bytes(mesh: Mesh) -> list[bytes]:
     )
     n_cells = int(sizes.size)
     out = [
-        b'<?xml version="1.0"?>\n'
+        (b'<?xml version="1.0"?>\n'
         b'<VTKFile type="UnstructuredGrid" version="1.0" byte_order="LittleEndian" header_type="UInt64">\n'
-        b"<UnstructuredGrid>\n<FieldData>\n"
+        b"<UnstructuredGrid>\n<FieldData>\n")
     ]
     out += [_array(name, np.array([i], dtype="<i4"), "Int32") for name, i in ids.items()]
     out.append(f'</FieldData>\n<Piece NumberOfPoints="{mesh.n_points}" NumberOfCells="{n_cells}">\n'.encode())
