@@ -107,6 +107,17 @@ class Streamwise(Section):
     growth_ratio: float = Field(1.1, ge=1.0, le=2.0, description="streamwise growth ratio [-]")
     max_spacing: float = Field(0.02, gt=0, le=1.0, description="cap on the plate [L]")
     far_spacing: float = Field(0.1, gt=0, le=10.0, description="cap in the upstream and wake blocks [L]")
+    cells: int | None = Field(None, ge=2, le=1_000_000, description="plate cells (solves the plate's ratio)")
+
+    @model_validator(mode="after")
+    def _two_of_three(self) -> Streamwise:
+        if self.cells is not None and "growth_ratio" in self.model_fields_set:
+            raise ValueError(
+                "streamwise: leading/trailing-edge spacing, growth_ratio and cells over-determine "
+                "the plate distribution; with streamwise.cells the plate's ratio is solved "
+                "(growth_ratio then applies to the upstream and wake blocks only if given without cells)"
+            )
+        return self
 
 
 class Names(Section):

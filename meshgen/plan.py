@@ -243,11 +243,37 @@ def wall_normal_nodes(case: Case, flow: FlowState, height: float, delta_end: flo
     return nodes
 
 
+def plate_with_count(length: float, dx_le: float, dx_te: float, cells: int) -> np.ndarray:
+    """``cells`` plate cells: two geometric layers from the edges meeting at mid-plate,
+    each with its ratio solved from its first spacing and its half of the count."""
+    left_n = cells // 2
+    right_n = cells - left_n
+    half = 0.5 * length
+    parts = []
+    for first, n in ((dx_le, left_n), (dx_te, right_n)):
+        if first * n > half * (1 + 1e-12):
+            raise CaseError(
+                f"streamwise.cells = {cells}: {n} cells of at least {first:.4g} m do not fit half "
+                f"the plate ({half:.4g} m); lower the edge spacings or streamwise.cells"
+            )
+        f, g, _ = solve_geometric(half, first=first, count=n)
+        nodes = geometric_nodes(f, g, n)
+        nodes[-1] = half
+        parts.append(nodes)
+    left, right = parts
+    nodes = np.concatenate([left, length - right[::-1][1:]])
+    nodes[-1] = length
+    return nodes
+
+
 def streamwise_nodes(case: Case, length: float) -> tuple[np.ndarray, tuple[Block, ...]]:
     """x nodes through the upstream, plate and wake blocks, spacing matched at x = 0 and L."""
     s, d = case.streamwise, case.domain
     dx_le, dx_te = s.leading_edge_spacing * length, s.trailing_edge_spacing * length
-    plate = two_sided(length, dx_le, dx_te, s.growth_ratio, s.max_spacing * length, "streamwise")
+    if s.cells is None:
+        plate = two_sided(length, dx_le, dx_te, s.growth_ratio, s.max_spacing * length, "streamwise")
+    else:
+        plate = plate_with_count(length, dx_le, dx_te, s.cells)
     parts, blocks, start = [], [], 0
     if d.upstream > 0:
         up = capped_geometric(d.upstream * length, dx_le, s.growth_ratio, s.far_spacing * length, "domain.upstream")

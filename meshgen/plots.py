@@ -216,6 +216,8 @@ def mesh_figure(mesh: Mesh, report: dict, case_name: str):
         _grid_lines(zx, grid, ii[si], jj[sj])
         _groups(zx, mesh, labelled=False)
         stretch = _frame(zx, x0, x1, y0, y1)
+        # tiny wall distances: a power-of-ten offset instead of long tick labels
+        zx.ticklabel_format(axis="y", style="sci", scilimits=(-2, 3))
         x_le = grid[0, wall_i[0], 0] + 0.0  # + 0.0 turns -0.0 into 0.0
         zx.set_title(f"leading edge (x = {x_le:.3g} m), {_thin_note(ki, kj) or 'every grid line'}: "
                      f"{window}{stretch}", color=INK, fontsize=13)

@@ -138,19 +138,63 @@ def _stretch_tail(nodes: np.ndarray, length: float, first: float) -> np.ndarray:
     return out
 
 
+def _layer_below_cap(first: float, ratio: float, cap: float) -> np.ndarray:
+    """Nodes of the geometric cells from ``first`` that stay at or below ``cap``."""
+    m = math.floor(math.log(max(cap, first) / first) / math.log(ratio)) + 1
+    return geometric_nodes(first, ratio, m)
+
+
 def two_sided(length: float, first_start: float, first_end: float, ratio: float, cap: float,
               what: str = "distribution") -> np.ndarray:
-    """Nodes on [0, length] clustered at both ends: growth from each end up to ``cap``.
+    """Nodes on [0, length] clustered at both ends: growth from each end up to ``cap``,
+    one run of equal cells between.
 
-    The two halves are capped geometric distributions over length/2 each, joined in the
-    middle, so the spacing at x = 0 is ``first_start`` and at x = length ``first_end``.
+    The spacing at x = 0 is ``first_start`` and at x = length ``first_end``; the middle
+    cells are no smaller than either layer's last cell. The alternative, each half a capped
+    geometric distribution over length/2, is kept when it grows more smoothly (short
+    lengths, first spacings near the cap).
     """
     half = 0.5 * length
     left = capped_geometric(half, first_start, ratio, cap, what)
     right = capped_geometric(half, first_end, ratio, cap, what)
-    nodes = np.concatenate([left, length - right[::-1][1:]])
-    nodes[-1] = length
-    return nodes
+    halves = np.concatenate([left, length - right[::-1][1:]])
+    halves[-1] = length
+    joined = _joined_layers(length, first_start, first_end, ratio, cap, what)
+    if joined is not None and _worst_growth(joined) <= _worst_growth(halves) * (1 + 1e-9):
+        return joined
+    return halves
+
+
+def _worst_growth(nodes: np.ndarray) -> float:
+    r = growth_ratios(nodes)
+    return float(max(r.max(), 1.0 / r.min())) if r.size else 1.0
+
+
+def _joined_layers(length: float, first_start: float, first_end: float, ratio: float, cap: float,
+                   what: str) -> np.ndarray | None:
+    """Both end layers up to the cap with one uniform run between, or None if they do not fit."""
+    if ratio > 1.0 + 1e-12 and max(first_start, first_end) < 0.5 * length:
+        left = _layer_below_cap(first_start, ratio, cap)
+        right = _layer_below_cap(first_end, ratio, cap)
+        # drop cells from the longer layer until the middle holds a cell as large as the last
+        while left.size + right.size > 4:
+            last = max(left[-1] - left[-2], right[-1] - right[-2])
+            if left[-1] + right[-1] + last <= length:
+                break
+            if left[-1] >= right[-1]:
+                left = left[:-1]
+            else:
+                right = right[:-1]
+        last = max(left[-1] - left[-2], right[-1] - right[-2])
+        rest = length - left[-1] - right[-1]
+        if rest >= last:
+            _check_count(rest / last, what)
+            n = max(1, math.floor(rest / last + 1e-9))
+            middle = left[-1] + np.arange(1, n) * (rest / n)
+            nodes = np.concatenate([left, middle, length - right[::-1]])
+            nodes[-1] = length
+            return nodes
+    return None
 
 
 def resample(nodes: np.ndarray, count: int) -> np.ndarray:

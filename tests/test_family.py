@@ -24,12 +24,12 @@ from meshgen.writers import FORMATS
 # A Reynolds-number case (no fluid, so no CoolProp import) with a pure geometric wall
 # distribution (wall.cells with a growth ratio, first cell solved) and streamwise blocks of
 # 20, 64 and 20 cells over 48 wall-normal cells: every count divides by 4, so the levels
-# of an R = 2 family nest exactly down to level 2. 4992 cells on level 0.
+# of an R = 2 family nest exactly down to level 2. 5376 cells on level 0.
 SMALL = [
     "name=small", "flow.fluid=", "flow.velocity=", "flow.reynolds=1e6", "flow.length=1",
     "wall.y_plus=", "wall.cells=48", "wall.growth_ratio=1.15",
     "streamwise.leading_edge_spacing=0.005", "streamwise.trailing_edge_spacing=0.005",
-    "streamwise.growth_ratio=1.15", "streamwise.max_spacing=0.02", "streamwise.far_spacing=0.1",
+    "streamwise.growth_ratio=1.15", "streamwise.max_spacing=0.016", "streamwise.far_spacing=0.1",
 ]
 G_WALL = 1.15
 
@@ -43,7 +43,7 @@ TMR = [
     "domain.upstream=0", "domain.downstream=0", "domain.height_factor=34",
     "wall.y_plus=", "wall.growth_ratio=", "wall.first_cell_height=5e-7", "wall.cells=384",
     "streamwise.leading_edge_spacing=1e-4", "streamwise.trailing_edge_spacing=1e-4",
-    "streamwise.growth_ratio=1.02", "streamwise.max_spacing=0.0036",
+    "streamwise.cells=544",
 ]
 
 
@@ -108,7 +108,7 @@ def test_integer_ratio_coarse_nodes_are_fine_nodes(small_family):
     fine = read_msh(out / "level-0" / "small.msh")[0]
     for k in (1, 2):
         coarse, quads = read_msh(out / f"level-{k}" / "small.msh")
-        assert quads.shape[0] == 4992 // 4**k
+        assert quads.shape[0] == 5376 // 4**k  # 20 + 72 + 20 by 48 cells, each divisible by 4
         assert is_subset(coarse, fine)
     # the check can fail: with r = 1.5 the counts no longer divide and the nodes move
     st, _ = family(SMALL, 2, 1.5)
@@ -259,8 +259,8 @@ def test_too_coarse_level_is_refused_with_level_and_count():
     # level 4 divides by 16: 20 upstream cells round to 1, 48 wall-normal cells to 3
     assert "level 4" in text and "upstream block with 1 streamwise" in text and "3 wall-normal" in text
     assert "at most 4 levels" in text
-    # level 3 (factor 8) still fits: 3 + 8 + 3 streamwise cells (20/8 = 2.5 rounds half up) over 6
-    assert family(SMALL, 4, 2.0)[0].members[-1].plan.cell_count == (3 + 8 + 3) * 6
+    # level 3 (factor 8) still fits: 3 + 9 + 3 streamwise cells (20/8 = 2.5 rounds half up, 72/8 = 9) over 6
+    assert family(SMALL, 4, 2.0)[0].members[-1].plan.cell_count == (3 + 9 + 3) * 6
 
 
 def test_three_d_family_uses_the_volume():

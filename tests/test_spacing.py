@@ -75,6 +75,11 @@ def test_two_sided_clusters_both_ends():
     assert d[0] == pytest.approx(1e-3, rel=1e-12)
     assert d[-1] == pytest.approx(4e-3, rel=1e-9)
     assert nodes[-1] == 2.0 and np.all(d > 0)
+    # growth towards the middle, one run of equal cells there, shrinking to the end
+    r = growth_ratios(nodes)
+    assert r.max() <= 1.1 * (1 + 1e-2) and r.min() >= 1 / (1.1 * (1 + 1e-2))
+    middle = d[d >= 0.999 * d.max()]
+    assert middle.size > 10 and np.ptp(middle) <= 1e-9 * d.max()
 
 
 def test_resample_integer_factor_is_a_subset():
@@ -97,3 +102,17 @@ def test_first_spacing_above_length_is_rejected():
 def test_absurd_counts_are_refused_before_allocation():
     with pytest.raises(CaseError, match="would need"):
         capped_geometric(1.0, 1e-12, 1.0, 1e-12)
+
+
+def test_plate_with_a_given_count():
+    from meshgen.plan import plate_with_count
+
+    nodes = plate_with_count(2.0, 1e-4, 2e-4, 544)
+    d = np.diff(nodes)
+    assert nodes.size == 545 and nodes[0] == 0.0 and nodes[-1] == 2.0
+    assert d[0] == pytest.approx(1e-4, rel=1e-12) and d[-1] == pytest.approx(2e-4, rel=1e-9)
+    # each half is one geometric series: constant ratio from its edge
+    r = growth_ratios(nodes[:273])
+    np.testing.assert_allclose(r, r[0], rtol=1e-9)
+    with pytest.raises(CaseError, match="do not fit"):
+        plate_with_count(1.0, 0.1, 0.1, 20)
