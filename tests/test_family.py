@@ -307,3 +307,15 @@ def test_coarsened_counts_round_half_up():
 
     assert _count(20, 8, 1) == 3  # 2.5 -> 3 (Python's round would give 2)
     assert _count(544, 2, 1) == 272
+
+
+def test_a_family_that_will_not_nest_says_so():
+    from meshgen.case import load_case
+    from meshgen.plan import make_plan
+    from meshgen.study.family import nesting_warnings
+
+    fine = make_plan(load_case(None, SMALL))  # 20 + 72 + 20 by 48 cells
+    assert nesting_warnings(fine, 2.0, 3) == []  # every count divides by 4
+    text = " ".join(nesting_warnings(fine, 2.0, 5))  # 16 divides 48 but not 20 or 72
+    assert "upstream block 20" in text and "plate block 72" in text and "wall-normal" not in text
+    assert nesting_warnings(fine, 1.5, 3) == []  # non-integer ratios never nest

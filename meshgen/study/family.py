@@ -115,6 +115,25 @@ def level_records(plans: list[Plan], factors: list[float]) -> list[dict]:
     return records
 
 
+def nesting_warnings(fine, ratio: float, levels: int) -> list[str]:
+    """With an integer ratio the levels nest only if every count divides by ratio^(levels-1)."""
+    if abs(ratio - round(ratio)) > 1e-12:
+        return []
+    step = round(ratio) ** (levels - 1)
+    counts = {f"{b.name} block": b.i1 - b.i0 for b in fine.blocks}
+    counts["wall-normal"] = fine.y.size - 1
+    if fine.z is not None:
+        counts["spanwise"] = fine.z.size - 1
+    odd = [f"{k} {n}" for k, n in counts.items() if n % step]
+    if not odd:
+        return []
+    return [
+        f"the coarse levels will not be exact subsets of the fine one: {', '.join(odd)} cells "
+        f"do not divide by {step} (ratio {ratio:g} over {levels} levels); set wall.cells, "
+        "streamwise.cells or span_cells to multiples of it for a nested family"
+    ]
+
+
 def family_study(case_path, overrides: list[str], levels: int, ratio: float,
                  formats: list[str] | None, arguments: list[str]) -> tuple[Study, list[str]]:
     """The family to build, checked (InputError lists every problem), and its warnings."""
@@ -130,6 +149,7 @@ def family_study(case_path, overrides: list[str], levels: int, ratio: float,
         if problems:
             fit = f"--levels {levels}: at most {p.level} levels fit this case at --ratio {ratio:g}"
             raise InputError([*problems, fit])
+    warnings += nesting_warnings(plans[0], ratio, levels)
     outputs = tuple(str(p) for p in planned_outputs(Path(), case.name, fmts))
     members = tuple(
         Member(level_name(k), spec, p, rec, outputs)
