@@ -11,12 +11,11 @@ from datetime import datetime
 import meshio
 import numpy as np
 import pytest
+from samples import run_cli
 from scipy.spatial import cKDTree
 
 from meshgen import __version__
-from meshgen.cli import _Parser
 from meshgen.errors import InputError
-from meshgen.study.commands import add_commands
 from meshgen.study.family import family_study, representative_size
 from meshgen.study.runner import Study, run_study
 from meshgen.writers import FORMATS
@@ -55,13 +54,7 @@ def sets_formats():
     return [a for name in sorted(FORMATS) for a in ("--format", name)]
 
 
-def run_cli(argv):
-    """Parse and run like meshgen.cli does (subparsers with its _Parser)."""
-    p = _Parser(prog="meshgen")
-    sub = p.add_subparsers(dest="command", parser_class=_Parser)
-    commands = add_commands(sub)
-    args = p.parse_args(argv)
-    return commands[args.command](args)
+
 
 
 def read_msh(path):

@@ -22,14 +22,6 @@ from meshgen.readers.foam import read_polymesh
 from meshgen.writers import foam
 from meshgen.writers.foam import extrusion_span, write_polymesh
 
-GROUPS = [
-    ("inlet", "inlet", (Patch("imin"),)),
-    ("outlet", "outlet", (Patch("imax"),)),
-    ("wall", "wall", (Patch("jmin", 1, 3),)),
-    ("symmetry", "symmetry", (Patch("jmin", 0, 1), Patch("jmin", 3, 4))),
-    ("farfield", "farfield", (Patch("jmax", 0, 4),)),
-]
-BLOCKS = (Block("upstream", 0, 1), Block("plate", 1, 3), Block("wake", 3, 4))
 FILES = {
     "points": "vectorField",
     "faces": "faceList",
@@ -37,6 +29,7 @@ FILES = {
     "neighbour": "labelList",
     "boundary": "polyBoundaryMesh",
 }
+from samples import BLOCKS, GROUPS
 
 
 def small_2d() -> Mesh:

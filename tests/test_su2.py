@@ -11,6 +11,7 @@ from pathlib import Path
 import meshio
 import numpy as np
 import pytest
+from samples import BLOCKS, GROUPS
 
 from meshgen.errors import ReadError, WriteError
 from meshgen.mesh import Block, Group, Mesh, Patch, extrude, structured_mesh
@@ -18,15 +19,6 @@ from meshgen.readers.su2 import guess_role, read_su2
 from meshgen.verify import cell_measures, verify_mesh
 from meshgen.writers import su2
 from meshgen.writers.su2 import ascii_rows
-
-GROUPS = [
-    ("inlet", "inlet", (Patch("imin"),)),
-    ("outlet", "outlet", (Patch("imax"),)),
-    ("wall", "wall", (Patch("jmin", 1, 3),)),
-    ("symmetry", "symmetry", (Patch("jmin", 0, 1), Patch("jmin", 3, 4))),
-    ("farfield", "farfield", (Patch("jmax", 0, 4),)),
-]
-BLOCKS = (Block("upstream", 0, 1), Block("plate", 1, 3), Block("wake", 3, 4))
 
 
 def small_2d() -> Mesh:

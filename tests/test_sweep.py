@@ -6,10 +6,9 @@ import subprocess
 import meshio
 import numpy as np
 import pytest
+from samples import run_cli
 
-from meshgen.cli import _Parser
 from meshgen.errors import InputError
-from meshgen.study.commands import add_commands
 from meshgen.study.sweep import SWEEP_KEYS, parse_vary, sweep_study, variant_name
 
 # A Reynolds-number case (no fluid, no CoolProp import), turbulent at Re_L = 1e6 with the
@@ -32,13 +31,7 @@ def sets(overrides):
     return [a for o in overrides for a in ("--set", o)]
 
 
-def run_cli(argv):
-    """Parse and run like meshgen.cli does (subparsers with its _Parser)."""
-    p = _Parser(prog="meshgen")
-    sub = p.add_subparsers(dest="command", parser_class=_Parser)
-    commands = add_commands(sub)
-    args = p.parse_args(argv)
-    return commands[args.command](args)
+
 
 
 def sweep(vary, overrides=SMALL):
