@@ -136,12 +136,15 @@ def _grid_index(values: np.ndarray, planned: np.ndarray) -> np.ndarray:
 def _extract(gmsh, plan: Plan, tags: dict):
     """Node coordinates in grid order, node ids of each physical group, quads as ids."""
     ni, nj = plan.x.size, plan.y.size
-    node_tags, coords, _ = gmsh.model.mesh.getNodes()
+    node_tags, coords, _ = gmsh.model.mesh.getNodes(returnParametricCoord=False)
     coords = coords.reshape(-1, 3)
     if node_tags.size != ni * nj:
         raise MeshError(f"gmsh made {node_tags.size} nodes, the plan has {ni * nj} (nodes merged or lost)")
     gid = _grid_index(coords[:, 1], plan.y) * ni + _grid_index(coords[:, 0], plan.x)
-    if np.unique(gid).size != gid.size:
+    # As many nodes as grid points: all points hit <=> no two nodes on one point (O(N), no sort).
+    hit = np.zeros(ni * nj, dtype=bool)
+    hit[gid] = True
+    if not hit.all():
         raise MeshError("two gmsh nodes landed on the same planned grid point")
     lookup = np.full(int(node_tags.max()) + 1, -1, dtype=np.int64)
     lookup[node_tags.astype(np.int64)] = gid
@@ -153,20 +156,36 @@ def _extract(gmsh, plan: Plan, tags: dict):
         name = gmsh.model.getPhysicalName(dim, tag)
         ntags, _ = gmsh.model.mesh.getNodesForPhysicalGroup(dim, tag)
         groups_nodes[name] = np.sort(lookup[ntags.astype(np.int64)])
+    del node_tags, coords
     _, quad_nodes = gmsh.model.mesh.getElementsByType(3)
-    quads = lookup[quad_nodes.astype(np.int64)].reshape(-1, 4)
+    quads = lookup[quad_nodes].reshape(-1, 4)
     return points, groups_nodes, quads
 
 
-def _sorted_rows(a: np.ndarray) -> np.ndarray:
-    s = np.sort(a, axis=1)
-    return s[np.lexsort(s.T[::-1])]
+def _is_each_planned_cell_once(quads: np.ndarray, ni: int, nj: int) -> bool:
+    """True when the quads, as node sets, are the planned cells of an ni x nj grid, each once.
+
+    A planned cell with first node n0 = i + ni j is the node set {n0, n0+1, n0+ni, n0+ni+1}
+    (already in increasing order), so sorting each quad's nodes and subtracting the
+    pattern identifies its cell by arithmetic: O(cells), no sort of the quad list.
+    """
+    s = np.sort(quads, axis=1)
+    n0 = s[:, 0]
+    pattern = np.array([0, 1, ni, ni + 1], dtype=np.int64)
+    if not np.array_equal(s - n0[:, None], np.broadcast_to(pattern, s.shape)):
+        return False
+    i, j = n0 % ni, n0 // ni
+    if np.any(i > ni - 2) or np.any(j > nj - 2):
+        return False
+    hit = np.zeros((ni - 1) * (nj - 1), dtype=bool)
+    hit[i + (ni - 1) * j] = True
+    return bool(hit.all())  # as many quads as cells (checked before): each cell once
 
 
 def _check_against_gmsh(mesh: Mesh, plan: Plan, groups_nodes: dict, quads: np.ndarray) -> None:
     if quads.shape[0] != mesh.n_cells:
         raise MeshError(f"gmsh made {quads.shape[0]} quads, the plan has {mesh.n_cells}")
-    if not np.array_equal(_sorted_rows(quads), _sorted_rows(mesh.cells)):
+    if not _is_each_planned_cell_once(quads, plan.x.size, plan.y.size):
         raise MeshError("gmsh's quads are not the planned structured cells")
     for g in mesh.groups:
         got = groups_nodes.get(g.name)

@@ -168,12 +168,17 @@ def extrude(mesh: Mesh, z: np.ndarray, front: str = "front", back: str = "back")
     if z.size < 2 or np.any(np.diff(z) <= 0):
         raise ValueError("extrusion planes must be at least two, strictly increasing")
     n2, nk = mesh.n_points, z.size
-    points = np.empty((n2 * nk, 3))
-    points[:, :2] = np.tile(mesh.points[:, :2], (nk, 1))
-    points[:, 2] = np.repeat(z, n2)
+    # Written in place through broadcasting views: no temporaries of the 3-D size.
+    points = np.empty((nk, n2, 3))
+    points[:, :, :2] = mesh.points[None, :, :2]
+    points[:, :, 2] = z[:, None]
+    points = points.reshape(-1, 3)
     layer = (np.arange(nk - 1, dtype=np.int64) * n2)[:, None, None]
     q = mesh.cells[None, :, :]
-    cells = np.concatenate([q + layer, q + layer + n2], axis=2).reshape(-1, 8)
+    cells = np.empty((nk - 1, mesh.n_cells, 8), dtype=np.int64)
+    np.add(q, layer, out=cells[:, :, :4])
+    np.add(q, layer + n2, out=cells[:, :, 4:])
+    cells = cells.reshape(-1, 8)
     groups = []
     for g in mesh.groups:
         a, b = (g.facets[None, :, 0] + layer[:, :, 0]), (g.facets[None, :, 1] + layer[:, :, 0])

@@ -20,24 +20,39 @@ from .registry import Format, register
 
 #: gmsh element type ids: 2-node line, 4-node quad, 8-node hexahedron.
 GMSH_TYPE = {"line": 1, "quad": 3, "hexahedron": 5}
+#: Nodes or elements handed to gmsh per call. gmsh's API copies every input array into a
+#: vector of its own before building its mesh objects, so passing a whole 1e7-cell mesh
+#: at once would hold two extra copies of the connectivity; chunks keep that small. The
+#: chunks append in order, so the model and the file are the same as with one call.
+CHUNK = 1 << 18
+
+
+def _one_based(ids: np.ndarray) -> np.ndarray:
+    """0-based node ids as gmsh's 1-based unsigned tags, flattened (one copy)."""
+    out = ids.astype(np.uint64)
+    out += 1
+    return out.ravel()
 
 
 def load_into_gmsh(gmsh, mesh: Mesh) -> None:
     """Create discrete entities, nodes, elements and physical groups for ``mesh``."""
     d = mesh.dim
     gmsh.model.addDiscreteEntity(d, 1)
-    node_tags = np.arange(1, mesh.n_points + 1, dtype=np.uint64)
-    gmsh.model.mesh.addNodes(d, 1, node_tags, mesh.points.ravel())
+    for s in range(0, mesh.n_points, CHUNK):  # chunks of nodes, not nodes
+        e = min(s + CHUNK, mesh.n_points)
+        gmsh.model.mesh.addNodes(d, 1, np.arange(s + 1, e + 1, dtype=np.uint64), mesh.points[s:e].ravel())
+    for s in range(0, mesh.n_cells, CHUNK):  # chunks of cells
+        e = min(s + CHUNK, mesh.n_cells)
+        gmsh.model.mesh.addElementsByType(
+            1, GMSH_TYPE[mesh.cell_type], np.arange(s + 1, e + 1, dtype=np.uint64), _one_based(mesh.cells[s:e])
+        )
     first = mesh.n_cells + 1
-    gmsh.model.mesh.addElementsByType(
-        1, GMSH_TYPE[mesh.cell_type], np.arange(1, first, dtype=np.uint64), (mesh.cells + 1).ravel()
-    )
     gmsh.model.addPhysicalGroup(d, [1], 1, name=mesh.cell_group)
     for k, g in enumerate(mesh.groups, start=1):
         gmsh.model.addDiscreteEntity(d - 1, k)
         n = g.facets.shape[0]
         tags = np.arange(first, first + n, dtype=np.uint64)
-        gmsh.model.mesh.addElementsByType(k, GMSH_TYPE[mesh.facet_type], tags, (g.facets + 1).ravel())
+        gmsh.model.mesh.addElementsByType(k, GMSH_TYPE[mesh.facet_type], tags, _one_based(g.facets))
         gmsh.model.addPhysicalGroup(d - 1, [k], k + 1, name=g.name)
         first += n
 
