@@ -127,11 +127,12 @@ def nesting_warnings(fine, ratio: float, levels: int) -> list[str]:
     odd = [f"{k} {n}" for k, n in counts.items() if n % step]
     if not odd:
         return []
-    return [
+    message = (
         f"the coarse levels will not be exact subsets of the fine one: {', '.join(odd)} cells "
         f"do not divide by {step} (ratio {ratio:g} over {levels} levels); set wall.cells, "
         "streamwise.cells or span_cells to multiples of it for a nested family"
-    ]
+    )
+    return [message]
 
 
 def family_study(case_path, overrides: list[str], levels: int, ratio: float,
