@@ -20,6 +20,7 @@ the domain height, so varying ``domain.height_factor`` with it is refused.
 
 from __future__ import annotations
 
+import difflib
 import itertools
 import math
 import re
@@ -56,7 +57,9 @@ def parse_vary(items: list[str]) -> list[tuple[str, list[float]]]:
             problems.append(f"--vary {item!r}: expected KEY=V1,V2,... with KEY one of {valid}")
             continue
         if key not in SWEEP_KEYS:
-            problems.append(f"--vary {key}: not a domain key a sweep can vary; valid keys: {valid}")
+            close = difflib.get_close_matches(key, list(SWEEP_KEYS), n=1)
+            hint = f"did you mean {close[0]!r}? " if close else ""
+            problems.append(f"--vary {key}: not a domain key a sweep can vary; {hint}valid keys: {valid}")
             continue
         if key in seen:
             problems.append(f"--vary {key}: given twice; list all its values in one --vary")
