@@ -518,3 +518,122 @@ def test_vtu_without_names_or_ids_is_a_read_error(tmp_path):
         with pytest.raises(ReadError) as err:
             read_vtu(path)
         assert words in str(err.value) and "\n" not in str(err.value)
+
+
+# --- fast paths: the same report as the general path ---------------------------------------
+
+
+def wavy(ni: int = 9, nj: int = 7) -> Mesh:
+    """A graded structured grid with curved, leaning lines: non-trivial metrics everywhere."""
+    xi = geometric(0.05, 1.1, ni - 1)
+    eta = geometric(0.01, 1.3, nj - 1)
+    i, j = np.meshgrid(xi, eta)
+    pts = np.stack([(i + 0.2 * j + 0.01 * np.sin(7 * j)).ravel(),
+                    (j * (1 + 0.1 * np.sin(3 * i))).ravel(), np.zeros(i.size)], axis=1)
+    return structured_mesh(xi, eta, (Block("plate", 0, ni - 1),), plate_groups(0, ni - 1, ni - 1),
+                           points=pts)
+
+
+def graded(ni: int = 9, nj: int = 7) -> Mesh:
+    """A graded tensor-product grid: its layout can be recovered, so growth ratios compare."""
+    x, y = geometric(0.05, 1.1, ni - 1), geometric(0.01, 1.3, nj - 1)
+    return structured_mesh(x, y, (Block("plate", 0, ni - 1),), plate_groups(0, ni - 1, ni - 1))
+
+
+BASES = {"wavy": wavy, "graded": graded}
+
+
+def forget_layout(mesh: Mesh) -> Mesh:
+    """The same points, cells and groups without ``shape``: every fast path is off."""
+    return Mesh(points=mesh.points, cells=mesh.cells, groups=mesh.groups)
+
+
+def assert_same_metrics(fast: dict, general: dict) -> None:
+    """Same metric names, counts exact, every figure to 1e-12 relative (the issue's bar).
+
+    A general mesh whose layout cannot be recovered has no growth ratios; only those differ.
+    """
+    names = list(fast["metrics"])
+    if general["mesh"]["structure"] == "none":
+        names = [n for n in names if not n.startswith("growth_ratio")]
+    assert names == list(general["metrics"])
+    for name in names:
+        f = fast["metrics"][name]
+        g = general["metrics"][name]
+        assert f.keys() == g.keys(), name
+        for key, a in f.items():
+            b = g[key]
+            if isinstance(b, float):
+                assert math.isclose(a, b, rel_tol=1e-12, abs_tol=1e-300), (name, key, a, b)
+            else:
+                assert a == b, (name, key, a, b)
+    assert fast["inverted_cells"] == general["inverted_cells"]
+
+
+def test_structured_2d_angles_equal_the_sorted_pairing():
+    m = wavy()
+    fast, general = q.non_orthogonality(m), q.non_orthogonality(forget_layout(m))
+    assert fast.size == general.size == 7 * 6 + 8 * 5  # interior i- and j-edges of 8 x 6 cells
+    assert np.array_equal(np.sort(fast), np.sort(general))  # same faces, same formulas: bit for bit
+    assert general.max() > 5.0  # the grid really is skewed, so the check can fail
+
+
+@pytest.mark.parametrize("base", list(BASES))
+@pytest.mark.parametrize("shuffle", [False, True])
+def test_structured_2d_report_matches_general_path(shuffle, base):
+    m = BASES[base]()
+    other = unstructured_order(m) if shuffle else forget_layout(m)
+    fast, general = q.quality_report(m), q.quality_report(other)
+    assert general["mesh"]["structure"] == ("recovered" if base == "graded" else "none")
+    assert_same_metrics(fast, general)
+
+
+@pytest.mark.parametrize("base", list(BASES))
+def test_exact_extrusion_takes_one_layer_and_matches_every_cell(base):
+    # np.linspace planes: the thicknesses differ in the last bits (a few distinct values),
+    # which the layered path must count correctly.
+    z = np.linspace(0.0, 0.37, 8)
+    assert np.unique(np.diff(z)).size > 1
+    m = extrude(BASES[base](), z)
+    assert q.exact_layers(m) is not None
+    fast = q.quality_report(m)
+    assert any("exact z-extrusion of 7 uniform layers" in n for n in fast["notes"])
+    for other in (forget_layout(m), unstructured_order(m)):
+        general = q.quality_report(other)
+        assert any("every cell" in n for n in general["notes"])
+        assert_same_metrics(fast, general)
+    assert fast["metrics"]["volume"]["count"] == 8 * 6 * 7
+    assert fast["metrics"]["non_orthogonality"]["count"] == 7 * (7 * 6 + 8 * 5) + 6 * 8 * 6
+
+
+@pytest.mark.parametrize("base", list(BASES))
+@pytest.mark.parametrize("case", ["geometric layers", "one node moved", "one layer"])
+def test_other_extrusions_take_the_general_path(case, base):
+    if case == "geometric layers":
+        m = extrude(BASES[base](), geometric(0.05, 1.4, 5))  # non-uniform: must not be layered
+    elif case == "one layer":
+        m = extrude(BASES[base](), np.array([0.0, 0.3]))
+    else:
+        m = extrude(BASES[base](), np.linspace(0.0, 1.0, 5))
+        points = m.points.copy()
+        points[3 * 9 * 7 + 20, 0] += 1e-3  # a node of plane 3 off the plane-0 xy
+        m = Mesh(points, m.cells, m.groups, shape=m.shape, blocks=m.blocks)
+    assert q.exact_layers(m) is None
+    fast = q.quality_report(m)
+    assert any("every cell" in n for n in fast["notes"])
+    assert_same_metrics(fast, q.quality_report(forget_layout(m)))
+
+
+def test_weighted_summary_equals_the_repeated_values():
+    # np.percentile's default (linear) method on the repeated array is the definition.
+    rng = np.random.default_rng(5)
+    a, b = rng.random(37) ** 3, rng.random(11)
+    parts = q.summarise("skew", [(a, 4), (b, 3)])
+    full = q.summarise("skew", np.concatenate([a, a, a, a, b, b, b]))
+    assert parts["count"] == full["count"] == 4 * 37 + 3 * 11
+    for key in ("min", "max", "mean", "p1", "p5", "p50", "p95", "p99"):
+        assert math.isclose(parts[key], full[key], rel_tol=1e-14), key
+    assert parts["outside"] == full["outside"] > 0
+    plain = rng.random(1001)
+    pct = np.percentile(plain, q.PERCENTILES)
+    assert [q.summarise("skew", plain)[f"p{p}"] for p in q.PERCENTILES] == list(pct)
