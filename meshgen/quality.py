@@ -46,7 +46,7 @@ import numpy as np
 from .boundary_layer import CORRELATIONS, DEFAULT_CORRELATION, delta99, reynolds_x, skin_friction, y_plus
 from .errors import InputError, MeshError
 from .mesh import Mesh
-from .verify import HEX_CORNER_FRAMES, HEX_FACES, QUAD_EDGES, _is_tensor_grid, cell_faces, cell_measures
+from .verify import HEX_CORNER_FRAMES, HEX_FACES, QUAD_EDGES, cell_faces, cell_measures, is_tensor_grid
 
 #: Verdict's stand-ins for zero and infinity (verdict.h, VERDICT_DBL_MIN / _MAX).
 DBL_MIN = 1.0e-30
@@ -370,7 +370,7 @@ def _face_angles(points: np.ndarray, centres: np.ndarray, faces: np.ndarray, own
 
 def _structured_angles(mesh: Mesh, c0: int, c1: int, directions: tuple[int, ...]) -> list[np.ndarray]:
     """Non-orthogonality [deg] of the interior faces owned by cells c0 <= c < c1 of a tensor
-    grid (``_is_tensor_grid``), one array per index direction in ``directions`` (0 = i).
+    grid (``is_tensor_grid``), one array per index direction in ``directions`` (0 = i).
 
     With cell id i + (ni-1) (j + (nj-1) k), the neighbour across +i, +j, +k is the cell
     1, ni-1, (ni-1)(nj-1) ids further on, so the pairs are known without a sort; each face
@@ -430,7 +430,7 @@ def non_orthogonality(mesh: Mesh) -> np.ndarray:
     Tensor grids (``mesh.shape`` with the grid's own cells) pair faces by arithmetic,
     i faces first, then j (then k); other meshes pair them by a sort, in key order.
     """
-    if _is_tensor_grid(mesh):
+    if is_tensor_grid(mesh):
         if mesh.dim == 2:
             return _grid_angles_2d(mesh)
         return np.concatenate(_structured_angles(mesh, 0, mesh.n_cells, tuple(range(mesh.dim))))
@@ -458,7 +458,7 @@ def exact_layers(mesh: Mesh) -> np.ndarray | None:
     """
     if mesh.dim != 3 or mesh.shape is None or len(mesh.shape) != 3 or mesh.shape[2] < 3:
         return None
-    if not _is_tensor_grid(mesh):
+    if not is_tensor_grid(mesh):
         return None
     ni, nj, nk = mesh.shape
     planes = mesh.points.reshape(nk, ni * nj, 3)

@@ -232,7 +232,7 @@ def _structured_offsets(shape: tuple[int, ...]) -> np.ndarray:
     return quad if len(shape) == 2 else np.concatenate([quad, quad + ni * shape[1]])
 
 
-def _is_tensor_grid(mesh: Mesh) -> bool:
+def is_tensor_grid(mesh: Mesh) -> bool:
     """True when the cells are exactly the tensor-product cells of ``mesh.shape``."""
     shape = mesh.shape
     if shape is None or len(shape) != mesh.dim or min(shape) < 2:
@@ -280,7 +280,7 @@ def _grid_sides(shape: tuple[int, ...]) -> list[tuple[tuple[int, ...], dict[int,
 def _tags_cover_grid_sides(mesh: Mesh) -> bool:
     """True when the group facets are exactly the outward boundary faces, each once.
 
-    Only for a mesh that passed ``_is_tensor_grid``: every facet is mapped to its place on
+    Only for a mesh that passed ``is_tensor_grid``: every facet is mapped to its place on
     a grid side by arithmetic on its node ids; any facet that maps nowhere, or a side face
     hit twice or never, returns False (the general check then names the problem).
     """
@@ -328,7 +328,7 @@ def verify_mesh(mesh: Mesh, expected_points: int | None = None, expected_cells: 
         raise MeshError(f"mesh has {mesh.n_cells} cells, the plan has {expected_cells}")
     if not np.all(np.isfinite(mesh.points)):
         raise MeshError("mesh has non-finite node coordinates")
-    grid = _is_tensor_grid(mesh)
+    grid = is_tensor_grid(mesh)
     bad = _count_inverted_grid(mesh) if grid else _count_inverted(mesh)
     if bad:
         raise MeshError(f"{bad} cells are inverted or degenerate (corner Jacobian <= 0)")

@@ -254,3 +254,80 @@ def test_registered_format_writes_what_it_announces(tmp_path):
     written = fmt.write(small_2d(), tmp_path, "case")
     assert written == fmt.outputs(tmp_path, "case") == [tmp_path / "constant" / "polyMesh"]
     assert all(p.is_dir() for p in written)
+
+
+def one_cell_wide() -> Mesh:
+    """One cell in x, two in y: the smallest grid (ni = 2)."""
+    groups = [
+        ("inlet", "inlet", (Patch("imin"),)),
+        ("outlet", "outlet", (Patch("imax"),)),
+        ("wall", "wall", (Patch("jmin", 0, 1),)),
+        ("top", "farfield", (Patch("jmax", 0, 1),)),
+    ]
+    return structured_mesh(np.array([0.0, 1.0]), np.array([0.0, 0.5, 1.0]), (Block("b", 0, 1),), groups)
+
+
+def unstructured(mesh: Mesh) -> Mesh:
+    """The same cells and groups without the grid layout: polymesh() takes the general path."""
+    return Mesh(mesh.points, mesh.cells, mesh.groups)
+
+
+def reordered_facets(mesh: Mesh) -> Mesh:
+    """Groups in reverse order, each facet's nodes rotated and reversed: the same node sets."""
+    turn = [Group(g.name, g.role, np.roll(g.facets, 1, axis=1)[:, ::-1].copy()) for g in mesh.groups]
+    groups = tuple(turn[::-1])
+    return Mesh(mesh.points, mesh.cells, groups, shape=mesh.shape)
+
+
+@pytest.mark.parametrize(
+    "make",
+    [
+        lambda: extrude(small_2d(), np.array([0.0, 0.2])),
+        lambda: extrude(graded_2d(121, 31), np.linspace(0, 0.3, 4)),
+        lambda: reordered_facets(extrude(graded_2d(121, 11), np.array([0.0, 0.1, 0.4]))),
+        lambda: extrude(one_cell_wide(), np.array([0.0, 1.0, 2.0])),
+    ],
+    ids=["one-layer", "three-layers", "reordered-facets", "one-cell-wide"],
+)
+def test_grid_arithmetic_matches_the_face_sort(make):
+    # A structured mesh is paired by grid arithmetic; the general path (one sort of face
+    # keys, no grid layout) must give the same arrays, so the files cannot differ.
+    mesh = make()
+    assert foam._grid_paired(mesh) is not None  # the arithmetic path is taken
+    fast, general = foam.polymesh(mesh), foam.polymesh(unstructured(mesh))
+    for name in ("faces", "owner", "neighbour"):
+        np.testing.assert_array_equal(getattr(fast, name), getattr(general, name), err_msg=name)
+    assert fast.patches == general.patches
+    # and the result follows the OF spec on its own
+    pm = {"points": mesh.points, "faces": fast.faces, "owner": fast.owner, "neighbour": fast.neighbour,
+          "n_cells": mesh.n_cells, "patches": {n: (k, s, c) for n, k, s, c in fast.patches}}
+    x, y, z = (extent(mesh, k) for k in range(3))
+    check_polymesh(pm, mesh.n_cells, mesh.group_sizes(), x * y * z)
+
+
+def test_renumbered_mesh_takes_the_general_path(tmp_path):
+    # Points and cells in random order, no grid layout: the general path alone, checked
+    # against the OF spec rules from the parsed files.
+    mesh = extrude(graded_2d(121, 21), np.array([0.0, 0.1]))
+    rng = np.random.default_rng(2)
+    perm = rng.permutation(mesh.n_points)
+    new_id = np.empty_like(perm)
+    new_id[perm] = np.arange(perm.size)
+    groups = tuple(Group(g.name, g.role, new_id[g.facets]) for g in mesh.groups)
+    renumbered = Mesh(mesh.points[perm], new_id[mesh.cells][rng.permutation(mesh.n_cells)], groups)
+    assert foam._grid_paired(renumbered) is None
+    write_polymesh(renumbered, tmp_path)
+    pm = read_polymesh(tmp_path)
+    check_polymesh(pm, mesh.n_cells, mesh.group_sizes(), extent(mesh, 0) * extent(mesh, 1) * 0.1)
+    assert pm["patches"]["front"][0] == "empty"
+
+
+def test_grid_with_a_doubly_tagged_face_falls_back_and_is_refused():
+    mesh = extrude(small_2d(), np.array([0.0, 1.0]))
+    wall = mesh.group("wall").facets
+    groups = [Group(g.name, g.role, np.concatenate([g.facets, wall[:1]]) if g.name == "inlet" else g.facets)
+              for g in mesh.groups]  # one wall face tagged by the inlet as well
+    doubled = Mesh(mesh.points, mesh.cells, tuple(groups), shape=mesh.shape)
+    assert foam._grid_paired(doubled) is None
+    with pytest.raises(MeshError, match="more than one group"):
+        foam.polymesh(doubled)

@@ -273,3 +273,38 @@ def test_registered_format_writes_what_it_announces(tmp_path):
 
     fmt = get_format("su2")
     assert fmt.write(small_2d(), tmp_path, "case") == fmt.outputs(tmp_path, "case") == [tmp_path / "case.su2"]
+
+
+@pytest.mark.parametrize(
+    "seps",
+    [
+        [b"", b"\n"],  # one column, the ending goes into the free leading bytes
+        [b"4(", b" ", b")\n"],  # a prefix too long for the free bytes of some widths
+        [b"<<<<<", b"=", b"\n"],  # a prefix longer than one unit
+    ],
+)
+def test_ascii_rows_every_digit_count(seps):
+    # Python's str() of each integer is the reference; every decimal width from 1 to 19
+    # digits, with the top of the column at each width too (it sets the units used).
+    ints = np.array([0, 1, 9] + [10**d + e for d in range(1, 19) for e in (-1, 0, 7)] + [2**63 - 1], np.int64)
+    for top in (9, 9999, 10**4, 10**7 - 1, 10**8, 2**31 - 1, 2**31, 10**12, 2**63 - 1):
+        col = ints[ints <= top]
+        cols = [col, col[::-1].copy()][: len(seps) - 1]
+        text = ascii_rows(cols, seps)
+        rows = zip(*cols)
+        expected = "".join(
+            seps[0].decode() + "".join(f"{v}" + seps[k + 1].decode() for k, v in enumerate(r)) for r in rows
+        )
+        assert text == expected.encode(), top
+
+
+def test_ascii_rows_across_blocks():
+    # More rows than one block of the formatter holds; Python's formatting is the reference.
+    rng = np.random.default_rng(11)
+    n = 3 * (su2._BLOCK_BYTES // 12) + 5
+    ids = rng.integers(0, 10**6, n)
+    coords = np.round(rng.standard_normal(n), 3)
+    text = ascii_rows([coords, ids], [b"(", b" ", b")\n"])
+    expected = "".join(f"({c + 0.0!r} {i})\n" for c, i in zip(coords.tolist(), ids.tolist()))  # -0.0 as 0.0
+    assert text == expected.encode()
+    assert ascii_rows([ids[:0]], [b"", b"\n"]) == b""

@@ -14,7 +14,10 @@ opens with a ``FoamFile`` dictionary and holds one list ``N ( ... )``. Rules kep
 Faces come from :func:`meshgen.verify.cell_faces` (outward faces of each hexahedron, in
 the HEX_FACES order), so the owner's own face already points the right way. Faces are
 paired, and boundary faces matched to their group, by sorting one key per face (see
-:func:`_face_keys`) for all of them together: no loop over cells or faces.
+:func:`_face_keys`) for all of them together: no loop over cells or faces. A structured
+mesh (``Mesh.shape`` set and its cells the tensor-product cells) skips the sort: its
+faces, pairs and upper-triangular order follow from the grid indices (:func:`_grid_paired`),
+with the same arrays as the sort gives.
 
 Patch types follow the group roles: wall -> ``wall``, symmetry -> ``symmetryPlane``,
 front/back -> ``empty`` when the mesh is one cell thick (OpenFOAM's way to solve 2-D),
@@ -38,9 +41,9 @@ from .. import __version__
 from ..atomic import atomic_dir
 from ..errors import MeshError, WriteError
 from ..mesh import Mesh, extrude
-from ..verify import cell_faces
+from ..verify import HEX_FACES, cell_faces, is_tensor_grid
 from .registry import Format, register
-from .su2 import ascii_rows
+from .su2 import ascii_blocks
 
 #: OpenFOAM patch type per group role; front/back depend on the layer count.
 PATCH_TYPE = {"wall": "wall", "symmetry": "symmetryPlane"}
@@ -92,12 +95,126 @@ def _one_layer(group_cells: np.ndarray, n_cells: int) -> bool:
     return group_cells.size == n_cells and np.bincount(group_cells, minlength=n_cells).max() == 1
 
 
-def polymesh(mesh: Mesh) -> PolyMesh:
-    """Faces, owner, neighbour and patches of a 3-D hexahedral Mesh (one patch per group)."""
-    if mesh.dim != 3:
-        raise MeshError("polymesh() needs a 3-D mesh; extrude a 2-D one first")
-    if not mesh.groups:
-        raise MeshError("polymesh: the mesh has no boundary groups")
+#: Internal faces of a grid cell towards its +i, +j and +k neighbours: the cell's
+#: HEX_FACES index (imax, jmax, kmax); the owner is the lower cell id, so these point
+#: from owner to neighbour.
+_GRID_INNER = np.array([3, 4, 1])
+
+
+def _place_grid_facets(tagged: np.ndarray, shape: tuple[int, ...], first: np.ndarray, local: np.ndarray,
+                       cell: np.ndarray, face: np.ndarray, lface: np.ndarray) -> bool:
+    """Fill the cell, outward cell face and HEX_FACES id of each grid facet; False if one fits no side.
+
+    A facet is placed by its smallest node (its grid indices) and the spread of its node
+    ids (its direction), and must then hold exactly that cell face's nodes, in any order.
+    """
+    ni, nj, nk = shape
+    a, b, c = ni - 1, nj - 1, nk - 1
+    lay = ni * nj
+    cols = [tagged[:, q] for q in range(4)]  # column by column: far faster than reducing axis 1
+    low = np.minimum(np.minimum(cols[0], cols[1]), np.minimum(cols[2], cols[3]))
+    spread = np.maximum(np.maximum(cols[0], cols[1]), np.maximum(cols[2], cols[3])) - low
+    k = low // lay
+    rest = low - k * lay
+    j = rest // ni
+    i = rest - j * ni
+    del rest
+    # per face direction: spread of node ids, whether the in-plane indices leave room for a
+    # face, the node index along the normal and its last value, the cell face at the low
+    # and at the high end, and the cell-id step back from a high-end facet to its cell
+    sides = (
+        (ni + 1, (i < a) & (j < b), k, c, (0, 1), a * b),
+        (lay + 1, (i < a) & (k < c), j, b, (2, 4), a),
+        (lay + ni, (j < b) & (k < c), i, a, (5, 3), 1),
+    )
+    lface[:] = -1
+    back = np.zeros(low.size, np.int64)  # cell-id step from a high-side facet's low node to its cell
+    for span, inside, index, end, (lo_face, hi_face), step in sides:  # three face directions
+        fits = inside & (spread == span)
+        at_hi = fits & (index == end)
+        lface[fits & (index == 0)] = lo_face
+        lface[at_hi] = hi_face
+        back[at_hi] = step
+    if np.any(lface < 0):
+        return False
+    np.subtract(i + a * (j + b * k), back, out=cell)
+    del i, j, k, back
+    np.take(local, lface, axis=0, out=face, mode="clip")
+    face += first[cell][:, None]
+    # the facet must hold exactly the face's nodes: equal as written (the usual case), or
+    # as sorted node sets
+    odd = np.flatnonzero((face != tagged).view(np.uint32))  # four bools per row read as one word
+    return not odd.size or np.array_equal(np.sort(face[odd], axis=1), np.sort(tagged[odd], axis=1))
+
+
+def _grid_paired(mesh: Mesh) -> tuple[np.ndarray, ...] | None:
+    """:func:`_sort_paired` for a tensor grid, by arithmetic on grid indices; None if it is not one.
+
+    Grid cell ``(i, j, k)`` shares its +i, +j and +k faces with cells ``c + 1``,
+    ``c + (ni - 1)`` and ``c + (ni - 1) (nj - 1)``; listing them cell by cell, in that order,
+    is already the upper-triangular order (owner, then neighbour ascending). A group facet
+    is placed by its smallest node and the spread of its node ids, which tell the grid
+    side and the cell; it must then hold exactly that cell face's nodes, in any order (as
+    the general path matches them). Anything that does not fit (a facet off the grid
+    sides, a side face tagged twice or never) returns None, and the general path then
+    finds and names the problem.
+    """
+    if mesh.shape is None or len(mesh.shape) != 3 or not is_tensor_grid(mesh):
+        return None
+    if any(g.facets.ndim != 2 or g.facets.shape[1] != 4 for g in mesh.groups):
+        return None
+    ni, nj, nk = mesh.shape
+    a, b, c = ni - 1, nj - 1, nk - 1
+    lay = ni * nj
+    corners = np.array([0, 1, 1 + ni, ni, lay, lay + 1, lay + 1 + ni, lay + ni])
+    local = corners[HEX_FACES]  # (6, 4) node offsets of each cell face from the cell's first node
+    first = mesh.cells[:, 0]  # i + ni (j + nj k), the grid's node id of cell (i, j, k)
+
+    # Each cell's three candidate faces in (cell, direction) order; those on the grid's
+    # high sides have no neighbour and are dropped.
+    has = np.zeros((c, b, a, 3), bool)
+    has[:, :, :-1, 0] = True
+    has[:, :-1, :, 1] = True
+    has[:-1, :, :, 2] = True
+    has = has.reshape(-1, 3)
+    n_inner = int(np.count_nonzero(has))
+    n_faces = n_inner + 2 * (a * b + b * c + a * c)
+    if sum(g.facets.shape[0] for g in mesh.groups) != n_faces - n_inner:
+        return None
+    # the whole face list and owner list, filled in place: no concatenation of big arrays
+    faces = np.empty((n_faces, 4), np.int64)
+    owner = np.empty(n_faces, np.int64)
+    own = owner[:n_inner]
+    own[:] = np.broadcast_to(np.arange(mesh.n_cells, dtype=np.int64)[:, None], has.shape)[has]
+    side = np.broadcast_to(np.arange(3, dtype=np.intp), has.shape)[has]
+    del has
+    nei = own + np.take(np.array([1, a, a * b], dtype=np.int64), side)
+    inner = faces[:n_inner]
+    np.take(local[_GRID_INNER], side, axis=0, out=inner, mode="clip")
+    inner += first[own][:, None]
+    del side
+
+    lface = np.empty(n_faces - n_inner, np.int64)
+    start = n_inner
+    for g in mesh.groups:  # a loop over the handful of boundary groups
+        stop = start + g.facets.shape[0]
+        if not _place_grid_facets(g.facets, mesh.shape, first, local, owner[start:stop], faces[start:stop],
+                                  lface[start - n_inner : stop - n_inner]):
+            return None
+        start = stop
+    seen = np.zeros(6 * mesh.n_cells, bool)
+    seen[owner[n_inner:] * 6 + lface] = True
+    if np.count_nonzero(seen) != lface.size:  # some side face is tagged twice, another never
+        return None
+    return faces, owner, nei
+
+
+def _sort_paired(mesh: Mesh) -> tuple[np.ndarray, ...]:
+    """Faces, owner and neighbour of any hexahedral mesh, by one sort of face keys.
+
+    Internal faces first (the owner's outward face, upper-triangular order), then each
+    group facet's own cell face (outward) and cell, in group order.
+    """
     faces, cell = cell_faces(mesh)
     tagged = np.concatenate([g.facets for g in mesh.groups])
     keys = [_face_keys(f, mesh.n_points) for f in (faces, tagged)]
@@ -141,21 +258,33 @@ def polymesh(mesh: Mesh) -> PolyMesh:
     row_of_run = np.full(n_runs, -1, np.int64)
     row_of_run[run[:nf]] = np.arange(nf)
     rows = row_of_run[run[nf:]]
+    return np.concatenate([inner[upper], faces[rows]]), np.concatenate([own[upper], cell[rows]]), nei[upper]
+
+
+def polymesh(mesh: Mesh) -> PolyMesh:
+    """Faces, owner, neighbour and patches of a 3-D hexahedral Mesh (one patch per group)."""
+    if mesh.dim != 3:
+        raise MeshError("polymesh() needs a 3-D mesh; extrude a 2-D one first")
+    if not mesh.groups:
+        raise MeshError("polymesh: the mesh has no boundary groups")
+    paired = _grid_paired(mesh)
+    faces, owner, nei = _sort_paired(mesh) if paired is None else paired
+    bcell = owner[nei.size :]
     patches = []
-    start = first.size
+    start = nei.size
     for g in mesh.groups:  # a loop over the handful of boundary groups
         n = g.facets.shape[0]
         kind = PATCH_TYPE.get(g.role, "patch")
         if g.role in ("front", "back"):
-            lo = start - first.size
-            kind = "empty" if _one_layer(cell[rows[lo : lo + n]], mesh.n_cells) else "patch"
+            lo = start - nei.size
+            kind = "empty" if _one_layer(bcell[lo : lo + n], mesh.n_cells) else "patch"
         patches.append((g.name, kind, start, n))
         start += n
     return PolyMesh(
         points=mesh.points,
-        faces=np.concatenate([inner[upper], faces[rows]]),
-        owner=np.concatenate([own[upper], cell[rows]]),
-        neighbour=nei[upper],
+        faces=faces,
+        owner=owner,
+        neighbour=nei,
         patches=tuple(patches),
         n_cells=mesh.n_cells,
     )
@@ -176,8 +305,8 @@ def _header(cls: str, obj: str, note: str | None = None) -> bytes:
     return "\n".join(lines).encode()
 
 
-def _list(n: int, body: bytes) -> list[bytes]:
-    return [f"{n}\n(\n".encode(), body, b")\n"]
+def _list(n: int, body: list[np.ndarray]) -> list[bytes | np.ndarray]:
+    return [f"{n}\n(\n".encode(), *body, b")\n"]
 
 
 def _boundary(pm: PolyMesh) -> bytes:
@@ -194,8 +323,8 @@ def _boundary(pm: PolyMesh) -> bytes:
     return ("\n".join(entries) + "\n)\n").encode()
 
 
-def file_chunks(pm: PolyMesh, points_note: str | None = None) -> dict[str, list[bytes]]:
-    """The five files of a polyMesh folder as byte chunks, by file name."""
+def file_chunks(pm: PolyMesh, points_note: str | None = None) -> dict[str, list[bytes | np.ndarray]]:
+    """The five files of a polyMesh folder as byte chunks (bytes or uint8 arrays), by file name."""
     counts = (
         f"nPoints:{pm.points.shape[0]}  nCells:{pm.n_cells}  "
         f"nFaces:{pm.faces.shape[0]}  nInternalFaces:{pm.neighbour.size}"
@@ -203,13 +332,13 @@ def file_chunks(pm: PolyMesh, points_note: str | None = None) -> dict[str, list[
     p, f = pm.points, pm.faces
     return {
         "points": [_header("vectorField", "points", points_note)]
-        + _list(p.shape[0], ascii_rows([p[:, 0], p[:, 1], p[:, 2]], [b"(", b" ", b" ", b")\n"])),
+        + _list(p.shape[0], ascii_blocks([p[:, 0], p[:, 1], p[:, 2]], [b"(", b" ", b" ", b")\n"])),
         "faces": [_header("faceList", "faces")]
-        + _list(f.shape[0], ascii_rows([f[:, k] for k in range(4)], [b"4(", b" ", b" ", b" ", b")\n"])),
+        + _list(f.shape[0], ascii_blocks([f[:, k] for k in range(4)], [b"4(", b" ", b" ", b" ", b")\n"])),
         "owner": [_header("labelList", "owner", counts)]
-        + _list(pm.owner.size, ascii_rows([pm.owner], [b"", b"\n"])),
+        + _list(pm.owner.size, ascii_blocks([pm.owner], [b"", b"\n"])),
         "neighbour": [_header("labelList", "neighbour", counts)]
-        + _list(pm.neighbour.size, ascii_rows([pm.neighbour], [b"", b"\n"])),
+        + _list(pm.neighbour.size, ascii_blocks([pm.neighbour], [b"", b"\n"])),
         "boundary": [_header("polyBoundaryMesh", "boundary"), _boundary(pm)],
     }
 
