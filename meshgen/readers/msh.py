@@ -96,19 +96,27 @@ def _groups_from_tags(m, facet: str, cell: str) -> tuple[dict[str, np.ndarray], 
     return facets, cell_group
 
 
-def read_msh(path) -> Mesh:
-    """Read a Gmsh MSH 4.1 or 2.2 file into a Mesh (``shape`` None: unstructured order)."""
-    import meshio
+def meshio_read(path: Path, module: str, what: str):
+    """Read with one of meshio's format modules, any failure as a one-line ReadError.
 
-    path = Path(path)
+    The format's own reader is called because meshio.read prints and calls sys.exit on a
+    file no reader accepts.
+    """
+    import importlib
+
     try:
         if not path.is_file():
             raise FileNotFoundError("no such file")
-        # The format's own reader: meshio.read prints and calls sys.exit on a bad file.
-        m = meshio.gmsh.read(str(path))
+        return importlib.import_module(f"meshio.{module}").read(str(path))
     except Exception as exc:  # noqa: BLE001  (meshio raises many types on bad input; one line is enough)
         reason = (str(exc).strip().splitlines() or [type(exc).__name__])[0]
-        raise ReadError(f"{path}: not a readable Gmsh MSH file ({reason})") from None
+        raise ReadError(f"{path}: not a readable {what} file ({reason})") from None
+
+
+def read_msh(path) -> Mesh:
+    """Read a Gmsh MSH 4.1 or 2.2 file into a Mesh (``shape`` None: unstructured order)."""
+    path = Path(path)
+    m = meshio_read(path, "gmsh", "Gmsh MSH")
     cell = cell_type_of({b.type for b in m.cells}, path)
     facet = FACET_OF[cell]
     cells = np.concatenate([b.data for b in m.cells if b.type == cell]).astype(np.int64)

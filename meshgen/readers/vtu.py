@@ -17,22 +17,13 @@ import numpy as np
 
 from ..errors import ReadError
 from ..mesh import Mesh
-from .msh import FACET_OF, assemble, cell_type_of
+from .msh import FACET_OF, assemble, cell_type_of, meshio_read
 
 
 def read_vtu(path) -> Mesh:
     """Read a meshgen VTU file into a Mesh (``shape`` None: unstructured order)."""
-    import meshio
-
     path = Path(path)
-    try:
-        if not path.is_file():
-            raise FileNotFoundError("no such file")
-        # The format's own reader: meshio.read prints and calls sys.exit on a bad file.
-        m = meshio.vtu.read(str(path))
-    except Exception as exc:  # noqa: BLE001  (meshio raises many types on bad input; one line is enough)
-        reason = (str(exc).strip().splitlines() or [type(exc).__name__])[0]
-        raise ReadError(f"{path}: not a readable VTU file ({reason})") from None
+    m = meshio_read(path, "vtu", "VTU")
     ids = m.cell_data.get("group_id")
     if ids is None:
         raise ReadError(f"{path}: no 'group_id' cell data, so no boundary groups")
