@@ -25,7 +25,6 @@ reference itself, the sweep has not shown any domain to be large enough.
 from __future__ import annotations
 
 import difflib
-import json
 import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
@@ -34,6 +33,7 @@ from pathlib import Path
 import numpy as np
 
 from ..errors import InputError
+from .manifest import load_json
 from .results import NAME_COLUMNS, quantity_columns, read_csv_with_lines
 from .sweep import SWEEP_KEYS
 
@@ -155,12 +155,7 @@ def full_key(name: str) -> str:
 def read_sweep_variants(manifest: str | Path) -> dict[str, dict[str, float]]:
     """{variant folder name: {sweep key: value}} from a ``sweep.json`` that meshgen sweep wrote."""
     manifest = Path(manifest)
-    try:
-        data = json.loads(manifest.read_text(encoding="utf-8"))
-    except FileNotFoundError:
-        raise InputError(f"{manifest}: no such sweep manifest") from None
-    except (OSError, UnicodeDecodeError, json.JSONDecodeError) as exc:
-        raise InputError(f"{manifest}: not a readable JSON manifest ({exc})") from None
+    data = load_json(manifest, "no such sweep manifest")
     if not isinstance(data, dict) or data.get("kind") != "sweep":
         kind = data.get("kind") if isinstance(data, dict) else None
         raise InputError(

@@ -111,6 +111,16 @@ def write_manifest(path: Path, data: Mapping[str, Any]) -> Path:
     return write_text(Path(path), dumps(data))
 
 
+def load_json(path: Path, missing: str) -> Any:
+    """A manifest the user points to, as parsed JSON; ``missing`` says what was looked for."""
+    try:
+        return json.loads(Path(path).read_text(encoding="utf-8"))
+    except FileNotFoundError:
+        raise InputError(f"{path}: {missing}") from None
+    except (OSError, UnicodeDecodeError, json.JSONDecodeError) as exc:
+        raise InputError(f"{path}: not a readable JSON manifest ({exc})") from None
+
+
 def read_manifest(path: Path) -> dict[str, Any] | None:
     """A manifest written earlier, or None when there is none."""
     path = Path(path)

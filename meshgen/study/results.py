@@ -12,7 +12,6 @@ every quantity column.
 from __future__ import annotations
 
 import csv
-import json
 import math
 from collections.abc import Mapping, Sequence
 from pathlib import Path
@@ -21,6 +20,7 @@ import numpy as np
 
 from ..errors import InputError
 from .gci import h_from_cells, study
+from .manifest import load_json
 
 NAME_COLUMNS = ("mesh", "level")  # optional column naming each mesh
 SIZE_COLUMNS = ("cells", "h")  # at least one of them sizes each mesh
@@ -128,12 +128,7 @@ def read_family_levels(manifest: str | Path) -> list[dict]:
     Every level needs a positive ``h`` [m] and a ``name`` or ``cells`` to be matched by.
     """
     manifest = Path(manifest)
-    try:
-        data = json.loads(manifest.read_text(encoding="utf-8"))
-    except FileNotFoundError:
-        raise InputError(f"{manifest}: no such manifest") from None
-    except (OSError, UnicodeDecodeError, json.JSONDecodeError) as exc:
-        raise InputError(f"{manifest}: not a readable JSON manifest ({exc})") from None
+    data = load_json(manifest, "no such manifest")
     levels = data.get("levels") if isinstance(data, dict) else None
     if not isinstance(levels, list) or not levels:
         raise InputError(f"{manifest}: needs a non-empty 'levels' list of {{name, cells, h}}")
