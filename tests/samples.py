@@ -2,9 +2,9 @@
 
 import numpy as np
 
-from meshgen.cli import _Parser
-from meshgen.mesh import Block, Mesh, Patch, structured_mesh
-from meshgen.study.commands import add_commands
+from meshgen.cli.args import _Parser
+from meshgen.cli.study_commands import add_commands
+from meshgen.meshing.mesh import Block, Mesh, Patch, structured_mesh
 
 
 def plate_groups(i_le: int, i_te: int, i_end: int) -> list:

@@ -1,1 +1,1 @@
-"""Grid-refinement and domain studies: families, sweeps and grid-convergence uncertainty."""
+"""Studies: refinement families, domain sweeps, their runner and manifests, results, GCI and domain verdicts."""

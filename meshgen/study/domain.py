@@ -32,7 +32,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ..errors import InputError
+from ..core.errors import InputError
 from .manifest import load_json
 from .results import NAME_COLUMNS, quantity_columns, read_csv_with_lines
 from .sweep import SWEEP_KEYS

@@ -12,7 +12,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ..atomic import atomic_file
+from ..io.atomic import atomic_file
 
 #: What each sweep key measures (the case file's units: delta99(L) and the plate length L).
 KEY_MEANING = {

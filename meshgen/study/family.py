@@ -27,11 +27,11 @@ import math
 from pathlib import Path
 
 from .. import __version__
-from ..build import planned_outputs
 from ..case import case_to_toml
-from ..errors import InputError
-from ..plan import Plan
-from .runner import Member, Study, load_checked, member_spec, plan_from_spec
+from ..core.errors import InputError
+from ..pipeline.build import planned_outputs
+from ..planning.plan import Plan
+from .members import Member, Study, load_checked, member_spec, plan_from_spec
 
 #: Ratios at or below this are refused: the levels would differ too little to tell apart.
 MIN_RATIO = 1.1

@@ -24,7 +24,7 @@ from collections.abc import Sequence
 
 import numpy as np
 
-from ..errors import InputError
+from ..core.errors import InputError
 from .apparent_order import P_MAX, apparent_order
 
 FS_THREE_GRID = 1.25  # Roache (1994, 1998); the value Celik et al. (2008) use

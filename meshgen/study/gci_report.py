@@ -12,8 +12,8 @@ from pathlib import Path
 
 import numpy as np
 
-from ..atomic import atomic_file
-from ..errors import InputError
+from ..core.errors import InputError
+from ..io.atomic import atomic_file
 from .gci import METHOD_TWO
 
 

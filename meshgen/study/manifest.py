@@ -33,8 +33,8 @@ from typing import Any
 
 import numpy as np
 
-from ..atomic import write_text
-from ..errors import InputError
+from ..core.errors import InputError
+from ..io.atomic import write_text
 
 #: Significant digits kept for every float in a manifest.
 FLOAT_DIGITS = 12

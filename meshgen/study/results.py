@@ -18,7 +18,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ..errors import InputError
+from ..core.errors import InputError
 from .gci import h_from_cells, study
 from .manifest import load_json
 

@@ -29,11 +29,11 @@ from pathlib import Path
 import numpy as np
 
 from .. import __version__
-from ..build import planned_outputs
 from ..case import case_to_toml
-from ..errors import InputError
-from ..plan import Plan
-from .runner import Member, Study, load_checked, member_spec, plan_from_spec
+from ..core.errors import InputError
+from ..pipeline.build import planned_outputs
+from ..planning.plan import Plan
+from .members import Member, Study, load_checked, member_spec, plan_from_spec
 
 SWEEP_KEYS = ("domain.height_factor", "domain.upstream", "domain.downstream", "domain.span")
 #: Relative tolerance on the near-wall and plate nodes shared by all variants.

@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 from scipy.integrate import solve_bvp
 
-from meshgen import boundary_layer as bl
+from meshgen.physics import correlations as bl
 
 
 @pytest.fixture(scope="module")

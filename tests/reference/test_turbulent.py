@@ -11,9 +11,9 @@ import math
 import numpy as np
 import pytest
 
-from meshgen import boundary_layer as bl
 from meshgen.case import load_case
-from meshgen.plan import make_plan
+from meshgen.physics import correlations as bl
+from meshgen.planning.plan import make_plan
 
 RE = [1e6, 1e7, 1e8]
 

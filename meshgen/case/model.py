@@ -1,0 +1,150 @@
+"""The case: validated parameters of one mesh (pydantic v2).
+
+A case file is TOML with the sections ``[flow]``, ``[wall]``, ``[domain]``,
+``[streamwise]``, ``[names]`` and ``[output]`` and a top-level ``name``. Every field has a
+range; errors name the field, the value and what is valid. Loading, overrides and the
+embedded default case are in loading.py.
+
+Lengths in the domain and streamwise sections are in plate lengths L; ``wall.max_spacing``
+is in units of delta99 at the plate end.
+"""
+
+from __future__ import annotations
+
+from typing import Literal
+
+from pydantic import BaseModel, ConfigDict, Field, model_validator
+
+from ..physics.correlations import CORRELATIONS
+
+
+class Section(BaseModel):
+    model_config = ConfigDict(extra="forbid", frozen=True, allow_inf_nan=False)
+
+
+class Flow(Section):
+    """Free stream: either a Reynolds number with a plate length, or velocity + length
+    + a kinematic viscosity or a fluid by name (with temperature and pressure)."""
+
+    reynolds: float | None = Field(None, gt=0, le=1e11, description="Re_L = U L / nu [-]")
+    length: float = Field(1.0, gt=0, le=1e4, description="plate length L [m]")
+    velocity: float | None = Field(None, gt=0, le=1e4, description="free-stream speed U [m/s]")
+    nu: float | None = Field(None, gt=0, le=1.0, description="kinematic viscosity [m2/s]")
+    fluid: str | None = Field(None, min_length=1, description="CoolProp fluid name, e.g. 'Air', 'Water'")
+    temperature: float = Field(288.15, gt=0, le=5000, description="fluid temperature [K]")
+    pressure: float = Field(101325.0, gt=0, le=1e9, description="fluid pressure [Pa]")
+    density: float | None = Field(None, gt=0, le=1e5, description="density [kg/m3] (sheet only)")
+    regime: Literal["auto", "laminar", "turbulent"] = "auto"
+    correlation: str | None = Field(None, description="skin-friction correlation name")
+    turbulence_intensity: float = Field(0.001, ge=0, le=0.5, description="free-stream Tu [-]")
+    viscosity_ratio: float = Field(1.0, gt=0, le=1e5, description="nu_t / nu in the free stream [-]")
+
+    @model_validator(mode="after")
+    def _one_way_to_the_reynolds_number(self) -> Flow:
+        problems = []
+        if self.reynolds is not None:
+            if self.velocity is not None and (self.nu is not None or self.fluid is not None):
+                problems.append(
+                    "flow: reynolds and velocity with nu or fluid over-determine the flow; "
+                    "give reynolds (+ length, optionally velocity or nu/fluid) or velocity + nu/fluid"
+                )
+        else:
+            if self.velocity is None:
+                problems.append("flow: give either flow.reynolds, or flow.velocity with flow.nu or flow.fluid")
+            elif self.nu is None and self.fluid is None:
+                problems.append("flow: flow.velocity needs flow.nu or flow.fluid (or give flow.reynolds)")
+        if self.nu is not None and self.fluid is not None:
+            problems.append(f"flow: both nu = {self.nu} and fluid = {self.fluid!r} given; give one")
+        if self.correlation is not None and self.correlation not in CORRELATIONS:
+            problems.append(
+                f"flow.correlation: unknown {self.correlation!r}; valid: {', '.join(CORRELATIONS)}"
+            )
+        if problems:
+            raise ValueError("\n".join(problems))
+        return self
+
+
+class Wall(Section):
+    """Wall-normal distribution: any two of (first spacing, growth ratio, cells)."""
+
+    y_plus: float = Field(1.0, gt=0, le=1000, description="target y+ of the first cell [-]")
+    first_cell_height: float | None = Field(None, gt=0, description="first-cell height [m] (instead of y_plus)")
+    growth_ratio: float = Field(1.1, ge=1.0, le=2.0, description="wall-normal growth ratio [-]")
+    cells: int | None = Field(None, ge=2, le=100000, description="wall-normal cell count")
+    max_spacing: float = Field(0.5, gt=0, le=100, description="cap on the wall-normal spacing [delta99(L)]")
+    reference_station: float = Field(1.0, gt=0, le=1.0, description="x_ref / L where y+ is targeted")
+
+    @model_validator(mode="after")
+    def _two_of_three(self) -> Wall:
+        given = self.model_fields_set
+        if self.first_cell_height is not None and "y_plus" in given:
+            raise ValueError("wall: give wall.y_plus or wall.first_cell_height, not both")
+        spacing = self.first_cell_height is not None or "y_plus" in given
+        if spacing and "growth_ratio" in given and self.cells is not None:
+            raise ValueError(
+                "wall: first spacing (y_plus or first_cell_height), growth_ratio and cells "
+                "over-determine the wall-normal distribution; give two of the three"
+            )
+        return self
+
+
+class Domain(Section):
+    height_factor: float = Field(10.0, ge=1.0, le=1000, description="H / delta99(L) [-]")
+    upstream: float = Field(0.5, ge=0, le=100, description="upstream block length [L]")
+    downstream: float = Field(0.5, ge=0, le=100, description="wake block length [L]")
+    span: float = Field(0.0, ge=0, le=100, description="spanwise extent [L]; 0 = 2-D")
+    span_cells: int = Field(1, ge=1, le=10000, description="spanwise cell count")
+
+
+class Streamwise(Section):
+    leading_edge_spacing: float = Field(1e-3, gt=0, le=0.5, description="first spacing at x = 0 [L]")
+    trailing_edge_spacing: float = Field(5e-3, gt=0, le=0.5, description="spacing at x = L [L]")
+    growth_ratio: float = Field(1.1, ge=1.0, le=2.0, description="streamwise growth ratio [-]")
+    max_spacing: float = Field(0.02, gt=0, le=1.0, description="cap on the plate [L]")
+    far_spacing: float = Field(0.1, gt=0, le=10.0, description="cap in the upstream and wake blocks [L]")
+    cells: int | None = Field(None, ge=2, le=1_000_000, description="plate cells (solves the plate's ratio)")
+
+    @model_validator(mode="after")
+    def _two_of_three(self) -> Streamwise:
+        if self.cells is not None and "growth_ratio" in self.model_fields_set:
+            raise ValueError(
+                "streamwise: leading/trailing-edge spacing, growth_ratio and cells over-determine "
+                "the plate distribution; with streamwise.cells the plate's ratio is solved "
+                "(growth_ratio then applies to the upstream and wake blocks only if given without cells)"
+            )
+        return self
+
+
+class Names(Section):
+    """Boundary group names (renamable); the roles stay the same."""
+
+    inlet: str = Field("inlet", pattern=r"^[A-Za-z_][A-Za-z0-9_]{0,63}$")
+    outlet: str = Field("outlet", pattern=r"^[A-Za-z_][A-Za-z0-9_]{0,63}$")
+    wall: str = Field("wall", pattern=r"^[A-Za-z_][A-Za-z0-9_]{0,63}$")
+    farfield: str = Field("farfield", pattern=r"^[A-Za-z_][A-Za-z0-9_]{0,63}$")
+    symmetry: str = Field("symmetry", pattern=r"^[A-Za-z_][A-Za-z0-9_]{0,63}$")
+    front: str = Field("front", pattern=r"^[A-Za-z_][A-Za-z0-9_]{0,63}$")
+    back: str = Field("back", pattern=r"^[A-Za-z_][A-Za-z0-9_]{0,63}$")
+    fluid: str = Field("fluid", pattern=r"^[A-Za-z_][A-Za-z0-9_]{0,63}$")
+
+    @model_validator(mode="after")
+    def _distinct(self) -> Names:
+        values = list(self.model_dump().values())
+        if len(set(values)) != len(values):
+            raise ValueError(f"names: group names must differ, got {values}")
+        return self
+
+
+class Output(Section):
+    formats: list[str] = Field(default_factory=lambda: ["msh", "vtu"], min_length=1)
+    max_cells: int = Field(20_000_000, ge=1, le=500_000_000, description="refuse plans above this")
+
+
+class Case(Section):
+    name: str = Field("case", pattern=r"^[A-Za-z0-9_.-]{1,64}$", description="case name (output folder)")
+    flow: Flow
+    wall: Wall = Wall()
+    domain: Domain = Domain()
+    streamwise: Streamwise = Streamwise()
+    names: Names = Names()
+    output: Output = Output()

@@ -1,0 +1,5 @@
+"""The command line: argparse front end, one module per command group; ``main(argv)`` returns the exit code."""
+
+from .main import entry, main
+
+__all__ = ["entry", "main"]

@@ -1,0 +1,256 @@
+"""The command line: ``main(argv)`` returns an exit code, so tests call it in-process.
+
+Exit codes: 0 done, 2 bad input (one line per problem on stderr, nothing written),
+130 interrupted, 1 anything else.
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib
+import json
+import os
+import sys
+from pathlib import Path
+
+from .. import __version__
+from ..core.errors import InputError, MeshgenError
+from .args import _case_args, _Parser
+
+EXIT_OK, EXIT_FAIL, EXIT_INPUT, EXIT_INTERRUPT = 0, 1, 2, 130
+
+
+def _parser() -> argparse.ArgumentParser:
+    from ..io.writers import FORMATS
+
+    p = _Parser(prog="meshgen", description="Graded, tagged structured meshes for flat-plate boundary layers.")
+    p.add_argument("--version", action="version", version=f"meshgen {__version__}")
+    p.add_argument("--verbose", action="store_true", help="show gmsh's own log")
+    sub = p.add_subparsers(dest="command", parser_class=_Parser)
+
+    sp = sub.add_parser("plan", help="print the sizing table (no mesh is built)")
+    _case_args(sp)
+    sp.add_argument("--json", action="store_true", help="print the plan as JSON")
+
+    sb = sub.add_parser("build", help="build, verify and write the mesh")
+    _case_args(sb)
+    sb.add_argument("-o", "--output", help="output folder (default outputs/<case name>/)")
+    sb.add_argument("--format", dest="formats", action="append", metavar="NAME",
+                    help=f"output format, repeatable: {', '.join(sorted(FORMATS))}")
+    sb.add_argument("--force", action="store_true", help="overwrite existing outputs")
+    sb.add_argument("--no-pictures", action="store_true", help="skip the PNG pictures")
+
+    si = sub.add_parser("init", help="list the starter cases, or write one to edit")
+    si.add_argument("template", nargs="?", help="template name")
+    si.add_argument("-o", "--output", help="file to write (default <template>.toml)")
+    si.add_argument("--force", action="store_true", help="overwrite an existing file")
+
+    sg = sub.add_parser("gci", help="grid-convergence uncertainty (Celik et al. 2008) from a results CSV")
+    sg.add_argument("results", help="CSV: one row per mesh with cells or h and named quantities")
+    sg.add_argument("--json", action="store_true", help="print the results as JSON")
+    sg.add_argument("--plot", metavar="FILE", help="write a PNG of each quantity against h")
+    sg.add_argument("--manifest", metavar="FILE", help="family.json giving h per level (default: beside the CSV)")
+    sg.add_argument("--area", type=float, help="2-D domain area [m2], to get h from cells")
+    sg.add_argument("--volume", type=float, help="3-D domain volume [m3], to get h from cells")
+    sg.add_argument("--fs", type=float, help="safety factor (default 1.25 for three or more meshes, 3 for two)")
+    sg.add_argument("--assumed-order", type=float, default=2.0, help="order for a two-mesh study (default 2)")
+    sg.add_argument("--formal-order", type=float, default=2.0, help="the scheme's formal order (default 2)")
+
+    sn = sub.add_parser("inspect", help="quality report of a mesh file (MSH 4.1/2.2, VTU, SU2, polyMesh folder)")
+    sn.add_argument("mesh", help="mesh file, or an OpenFOAM case / polyMesh folder")
+    sn.add_argument("--json", action="store_true", help="print the report as JSON")
+    sn.add_argument("--pictures", metavar="DIR", help="write the pictures into DIR")
+
+    sub.add_parser("formats", help="list the output formats and the solvers that read them")
+    for module in EXTRA_COMMANDS:
+        COMMANDS.update(importlib.import_module(module).add_commands(sub))
+    return p
+
+
+def _templates_dir() -> Path:
+    from ..case import TEMPLATES_DIR
+
+    return TEMPLATES_DIR
+
+
+def _template_summary(path: Path) -> str:
+    for line in path.read_text(encoding="utf-8").splitlines():
+        if line.startswith("#"):
+            return line.lstrip("# ").strip()
+    return ""
+
+
+def cmd_init(args) -> int:
+    names = sorted(p.stem for p in _templates_dir().glob("*.toml"))
+    if not args.template:
+        width = max(len(n) for n in names)
+        for n in names:
+            print(f"{n.ljust(width)}  {_template_summary(_templates_dir() / (n + '.toml'))}")
+        return EXIT_OK
+    if args.template not in names:
+        import difflib
+
+        close = difflib.get_close_matches(args.template, names, n=1)
+        hint = f"; did you mean {close[0]!r}?" if close else ""
+        raise InputError(f"init: unknown template {args.template!r}{hint} (valid: {', '.join(names)})")
+    target = Path(args.output or f"{args.template}.toml")
+    if target.is_dir():
+        raise InputError(f"-o {target}: is a folder; give a file name")
+    if target.exists() and not args.force:
+        raise InputError(f"-o {target}: exists; use --force to overwrite")
+    from ..io.atomic import write_text
+
+    write_text(target, (_templates_dir() / f"{args.template}.toml").read_text(encoding="utf-8"))
+    print(f"wrote {target}")
+    return EXIT_OK
+
+
+def cmd_plan(args) -> int:
+    from ..case import load_case
+    from ..planning.plan import make_plan
+    from ..reports.bc_sheet import bc_markdown, bc_sheet
+    from ..reports.plan_text import CAUTION, plan_table
+
+    plan = make_plan(load_case(args.case, args.overrides))
+    d = plan.to_dict()
+    sheet = bc_sheet(plan)
+    if args.json:
+        d["boundary_conditions"] = sheet
+        d["caution"] = CAUTION
+        print(json.dumps(d, indent=2))
+    else:
+        print(plan_table(d))
+        print()
+        print(bc_markdown(sheet).split("\n", 2)[2])
+        print(CAUTION)
+    return EXIT_OK
+
+
+def cmd_formats(args) -> int:
+    from ..io.writers import FORMATS
+
+    width = max(len(n) for n in FORMATS)
+    for name, f in sorted(FORMATS.items()):
+        print(f"{name.ljust(width)}  {f.description}. Read by: {f.solvers}")
+    return EXIT_OK
+
+
+def cmd_gci(args) -> int:
+    from ..study.gci import to_json
+    from ..study.gci_report import gci_table, plot_gci
+    from ..study.results import read_results_csv, study_rows
+
+    if args.area is not None and args.volume is not None:
+        raise InputError("gci: give --area (2-D) or --volume (3-D), not both")
+    dim = 2 if args.area is not None else 3 if args.volume is not None else None
+    size = args.area if args.area is not None else args.volume
+    if not Path(args.results).is_file():
+        raise InputError(f"gci: results file {args.results!r} does not exist")
+    rows = read_results_csv(args.results, dim=dim, size=size, manifest=args.manifest)
+    results = study_rows(rows, fs=args.fs, assumed_order=args.assumed_order, formal_order=args.formal_order)
+    if args.json:
+        print(json.dumps(to_json(results), indent=2))
+    else:
+        print(gci_table(results))
+    if args.plot:
+        print(f"wrote {plot_gci(results, args.plot)}", file=sys.stderr)
+    return EXIT_OK
+
+
+def _read_any(path: Path):
+    """A Mesh from any file the tool can read, chosen by suffix; a folder is a polyMesh."""
+    from ..core.errors import ReadError
+
+    if not path.exists():
+        raise ReadError(f"inspect: {path} does not exist")
+    if path.is_dir():
+        from ..io.readers.foam import polymesh_to_mesh
+
+        return polymesh_to_mesh(path)
+    suffix = path.suffix.lower()
+    if suffix == ".msh":
+        from ..io.readers.msh import read_msh
+
+        return read_msh(path)
+    if suffix == ".vtu":
+        from ..io.readers.vtu import read_vtu
+
+        return read_vtu(path)
+    if suffix == ".su2":
+        from ..io.readers.su2 import read_su2
+
+        return read_su2(path)
+    raise ReadError(f"inspect: cannot read {path.name!r}; readable: .msh (4.1, 2.2), .vtu, .su2, a polyMesh folder")
+
+
+def cmd_inspect(args) -> int:
+    from ..reports.markdown import quality_markdown
+    from ..reports.quality import quality_report
+
+    path = Path(args.mesh)
+    mesh = _read_any(path)
+    report = quality_report(mesh)
+    pics = []
+    if args.pictures:
+        from ..reports.plots import make_pictures
+
+        pics = make_pictures(mesh, report, path.stem, Path(args.pictures))
+    if args.json:
+        print(json.dumps(report, indent=2))
+    else:
+        print(quality_markdown(report, path.stem, [p.name for p in pics]))
+    return EXIT_OK
+
+
+def cmd_build(args) -> int:
+    from ..pipeline.build import build_case
+
+    written = build_case(
+        case_path=args.case,
+        overrides=args.overrides,
+        output=args.output,
+        formats=args.formats,
+        force=args.force,
+        pictures=not args.no_pictures,
+        verbose=args.verbose,
+        progress=lambda msg: print(msg, file=sys.stderr),
+    )
+    print(f"wrote {len(written)} files to {written[0].parent if written else args.output}:")
+    for p in written:
+        print(f"  {p}")
+    return EXIT_OK
+
+
+COMMANDS = {"plan": cmd_plan, "build": cmd_build, "init": cmd_init, "formats": cmd_formats, "gci": cmd_gci,
+            "inspect": cmd_inspect}
+#: Modules whose add_commands(subparsers) adds more commands and returns {name: function}.
+EXTRA_COMMANDS: list[str] = ["meshgen.cli.study_commands"]
+
+
+def main(argv: list[str] | None = None) -> int:
+    argv = sys.argv[1:] if argv is None else list(argv)
+    try:
+        args = _parser().parse_args(argv)
+        if not args.command:
+            _parser().print_help()
+            return EXIT_INPUT
+        return COMMANDS[args.command](args)
+    except InputError as exc:
+        for line in exc.problems:
+            print(f"error: {line}", file=sys.stderr)
+        return EXIT_INPUT
+    except KeyboardInterrupt:
+        print("interrupted", file=sys.stderr)
+        return EXIT_INTERRUPT
+    except MeshgenError as exc:
+        print(f"error: {exc}", file=sys.stderr)
+        return EXIT_FAIL
+    except SystemExit as exc:  # --help and --version
+        return int(exc.code or 0)
+    except BrokenPipeError:
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        return EXIT_OK
+
+
+def entry() -> None:
+    sys.exit(main())

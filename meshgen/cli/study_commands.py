@@ -1,0 +1,167 @@
+"""The ``family``, ``sweep`` and ``domain`` commands, for ``meshgen.cli.main`` to add to its subparsers.
+
+``add_commands(sub)`` adds the parsers and returns {"family": cmd_family, "sweep":
+cmd_sweep, "domain": cmd_domain}; each command takes the parsed arguments and returns an
+exit code, raising InputError for bad input before anything is written. ``family`` and
+``sweep`` return 0 when every member is built and 1 when some member failed (with a
+summary on stderr); their output folders default to ``outputs/<case name>-family`` and
+``outputs/<case name>-sweep``. ``domain`` summarises a sweep's results CSV (domain.py,
+domain_report.py) and returns 0 whatever the verdict: the verdict is in its output.
+
+The manifests record the arguments that decide the meshes (the case, ``--set``,
+``--levels``/``--ratio`` or ``--vary``, ``--format``); ``-o``, ``--workers``,
+``--scheduler`` and ``--force`` only decide where and how the builds run, so they are left
+out and a Dask run's manifest equals a local run's apart from ``created``.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import sys
+from pathlib import Path
+
+from ..core.errors import InputError, WriteError
+from ..pipeline.build import output_folder
+from ..study.domain import DEFAULT_TOL, domain_summary
+from ..study.domain_report import domain_table, plot_domain, verdict
+from ..study.runner import RunReport, Study, run_study
+from .args import _case_args
+
+EXIT_OK, EXIT_FAIL = 0, 1
+
+
+def default_workers() -> int:
+    """Local worker processes when --workers is not given: two, or one on a single core."""
+    return min(2, os.cpu_count() or 1)
+
+
+def _run_args(p: argparse.ArgumentParser) -> None:
+    from ..io.writers import FORMATS
+
+    p.add_argument("-o", "--output", metavar="DIR", help="output folder (default outputs/<case name>-<command>)")
+    p.add_argument("--workers", type=int, default=None, metavar="K",
+                   help=f"local worker processes (default {default_workers()}); ignored with --scheduler")
+    p.add_argument("--format", dest="formats", action="append", metavar="NAME",
+                   help=f"output format, repeatable: {', '.join(sorted(FORMATS))}")
+    p.add_argument("--force", action="store_true", help="rebuild every member and overwrite existing outputs")
+    p.add_argument("--scheduler", metavar="ADDRESS",
+                   help="build on a Dask cluster (e.g. tcp://host:8786) that shares the output folder")
+
+
+def add_commands(sub) -> dict:
+    """Add the ``family`` and ``sweep`` subparsers to ``sub``; return their commands by name."""
+
+    sf = sub.add_parser("family", help="build a refinement family (level 0 = the case, coarser levels)")
+    _case_args(sf)
+    sf.add_argument("--levels", type=int, required=True, metavar="N", help="number of levels (2 or more)")
+    sf.add_argument("--ratio", type=float, required=True, metavar="R",
+                    help="refinement ratio between levels (above 1.1; Celik et al. 2008 recommend > 1.3)")
+    _run_args(sf)
+
+    ss = sub.add_parser("sweep", help="build the case with the outer boundaries moved (domain sweep)")
+    _case_args(ss)
+    ss.add_argument("--vary", action="append", default=[], required=True, metavar="KEY=V1,V2,...",
+                    help="domain key and its values, repeatable (cartesian product): domain.height_factor, "
+                         "domain.upstream, domain.downstream, domain.span")
+    _run_args(ss)
+
+    sd = sub.add_parser("domain", help="domain independence: each sweep variant against the largest domain")
+    sd.add_argument("results", help="CSV: one row per variant, a key column (e.g. height_factor) or a 'variant' "
+                                    "column of folder names, and one or more quantity columns")
+    sd.add_argument("--key", metavar="COLUMN",
+                    help="the column or sweep key that sizes the domain (default: the only one that varies)")
+    sd.add_argument("--tol", type=float, default=DEFAULT_TOL, metavar="FRACTION",
+                    help="accepted relative change against the largest domain (default 0.01, i.e. 1 %%)")
+    sd.add_argument("--json", action="store_true", help="print the summary as JSON")
+    sd.add_argument("--plot", metavar="FILE", help="write a PNG (.png) of each quantity against the key")
+    sd.add_argument("--manifest", metavar="FILE",
+                    help="sweep.json giving each variant's key values (default: beside the CSV)")
+    return {"family": cmd_family, "sweep": cmd_sweep, "domain": cmd_domain}
+
+
+def _arguments(command: str, args, extra: list[str]) -> list[str]:
+    """The arguments that decide the meshes, as a command line."""
+    argv = [command] + ([args.case] if args.case else [])
+    for item in args.overrides:
+        argv += ["--set", item]
+    argv += extra
+    for name in args.formats or []:
+        argv += ["--format", name]
+    return argv
+
+
+def _run(study: Study, warnings: list[str], args, case_name: str) -> int:
+    for w in warnings:
+        print(f"warning: {w}", file=sys.stderr)
+    root = output_folder(args.output, f"{case_name}-{study.kind}")
+    workers = default_workers() if args.workers is None else args.workers
+    report = run_study(study, root, workers=workers, force=args.force, scheduler=args.scheduler,
+                       stream=sys.stderr)
+    return finish_report(report, study.kind)
+
+
+def finish_report(report: RunReport, kind: str) -> int:
+    """Print the outcome (stdout) and any failures (stderr); the exit code."""
+    print(f"{kind}: {report.total} members in {report.manifest.parent} ({len(report.built)} built, "
+          f"{len(report.skipped)} up to date, {len(report.failed)} failed); manifest {report.manifest}")
+    if not report.failed:
+        return EXIT_OK
+    print(f"error: {len(report.failed)} of {report.total} {kind} members failed:", file=sys.stderr)
+    for name, error in report.failed.items():
+        print(f"error:   {name}: {error}", file=sys.stderr)
+    return EXIT_FAIL
+
+
+def cmd_family(args) -> int:
+    from ..study.family import family_study
+
+    study, warnings = family_study(args.case, args.overrides, args.levels, args.ratio, args.formats,
+                                   _arguments("family", args, ["--levels", str(args.levels),
+                                                               "--ratio", repr(args.ratio)]))
+    return _run(study, warnings, args, study.members[0].plan.case.name)
+
+
+def cmd_sweep(args) -> int:
+    from ..study.sweep import sweep_study
+
+    extra = [a for item in args.vary for a in ("--vary", item)]
+    study, warnings = sweep_study(args.case, args.overrides, args.vary, args.formats,
+                                  _arguments("sweep", args, extra))
+    return _run(study, warnings, args, study.members[0].plan.case.name)
+
+
+def _plot_problems(plot: str | None) -> list[str]:
+    """Why --plot FILE cannot be written, checked before anything is read or written."""
+    if plot is None:
+        return []
+    path = Path(plot)
+    if path.suffix.lower() != ".png":
+        return [f"--plot {plot}: the picture is a PNG; give a file name ending in .png"]
+    if path.is_dir():
+        return [f"--plot {plot}: is a folder; give a file name ending in .png"]
+    parent = next((p for p in path.parents if p.exists()), None)
+    if parent is not None and not parent.is_dir():
+        return [f"--plot {plot}: {parent} is a file, not a folder"]
+    return []
+
+
+def cmd_domain(args) -> int:
+    problems = _plot_problems(args.plot)
+    if not (0 < args.tol < 1):  # also refuses NaN
+        problems.append(f"--tol {args.tol}: a fraction above 0 and below 1, e.g. 0.01 for 1 %")
+    if problems:
+        raise InputError(problems)
+    summary = domain_summary(args.results, key=args.key, tol=args.tol, manifest=args.manifest)
+    if args.json:
+        print(json.dumps({**summary, "verdict": verdict(summary)}, indent=2, allow_nan=False))
+    else:
+        print(domain_table(summary))
+    if args.plot:
+        try:
+            written = plot_domain(summary, args.plot)
+        except OSError as exc:
+            raise WriteError(f"--plot {args.plot}: cannot be written ({exc.strerror or exc})") from None
+        print(f"wrote {written}", file=sys.stderr)
+    return EXIT_OK

@@ -1,0 +1,1 @@
+"""Shared ground of every stage: the project's exception types."""

@@ -1,0 +1,1 @@
+"""Files: atomic writing, the format writers (with their registry) and the readers."""

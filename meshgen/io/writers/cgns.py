@@ -1,0 +1,319 @@
+"""CGNS/HDF5 files (``<stem>.cgns``), written node by node with h5py.
+
+The tree follows the CGNS Standard Interface Data Structures (SIDS) and the CGNS/HDF5
+file mapping. Every node is an HDF5 group with the attributes ``name`` and ``label``
+(scalar null-terminated ASCII strings of 33 bytes), ``type`` (the data type code, a
+3-byte string: MT, C1, I4, I8, R4, R8) and ``flags`` (one int32, 1); a node's data is
+the dataset ``" data"`` under it. Groups track link creation order, which the CGNS
+library iterates by. The root group also holds ``" format"`` and ``" hdf5version"``.
+Array dimensions are stored reversed, so a C-order numpy array of shape (nk, nj, ni)
+is the CGNS (Fortran, i fastest) array of dimensions (ni, nj, nk).
+
+Tree written (one zone per block of a structured mesh)::
+
+    CGNSLibraryVersion                      R4 [3.4]
+    Base                CGNSBase_t          I4 [cell dim, physical dim]
+      DataClass, DimensionalUnits           Dimensional; kg, m, s, K, deg
+      <group>           Family_t            FamilyBC = BC type of the group's role
+      <block>           Zone_t              I4 (3, index dim): nodes, cells, 0
+        ZoneType                            Structured
+        GridCoordinates                     CoordinateX, CoordinateY[, CoordinateZ] R8 [m]
+        ZoneBC / <group> BC_t               PointRange (1-based block-local nodes), FamilyName
+        ZoneGridConnectivity / <name>       GridConnectivity1to1_t to the neighbouring
+                                            blocks: PointRange, PointRangeDonor, Transform
+
+Zones are named after the blocks (a block named like a group gets ``_zone`` appended,
+since families and zones share the base); the CGNS library numbers zones in name order,
+so zone 1 is the alphabetically first block, not the upstream one.
+
+A mesh without a structured layout becomes one unstructured zone: an Elements_t section
+of QUAD_4 or HEXA_8 cells, one of BAR_2 (2-D) or QUAD_4 (3-D) facets per group, and one
+BC_t per group whose PointRange is that section's element range (GridLocation FaceCenter
+in 3-D, EdgeCenter in 2-D).
+
+Boundary condition types by role (SIDS BCType_t): wall -> BCWall (the
+equation set makes it no-slip), inlet -> BCInflow, outlet -> BCOutflow, farfield ->
+BCFarfield, symmetry -> BCSymmetryPlane, and front/back -> BCSymmetryPlane, because the
+spanwise faces of an extruded mesh stand in for a 2-D flow; a solver that wants them
+periodic or empty sets that in its own set-up.
+
+Sources: CGNS SIDS (cgns.github.io, "CGNS/SIDS"); CGNS/HDF5 file mapping
+("CGNS/HDF5 - An HPC implementation") and the attribute types as the CGNS library's
+HDF5 layer (ADFH) creates them; checked by ``cgnscheck`` (Debian ``cgns-convert``).
+"""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+
+import numpy as np
+
+from ...core.errors import WriteError
+from ...meshing.mesh import Mesh
+from ..atomic import atomic_file
+from .plot3d import grid_blocks, grid_shape, group_pieces
+from .registry import Format, register
+
+#: BC type of each group role (SIDS BCType_t).
+ROLE_BC = {
+    "wall": "BCWall",
+    "inlet": "BCInflow",
+    "outlet": "BCOutflow",
+    "farfield": "BCFarfield",
+    "symmetry": "BCSymmetryPlane",
+    "front": "BCSymmetryPlane",
+    "back": "BCSymmetryPlane",
+}
+#: SIDS ElementType_t values (cgnslib.h): BAR_2, QUAD_4, HEXA_8.
+ELEMENT_TYPE = {"line": 3, "quad": 7, "hexahedron": 17}
+#: The CGNS library version this file claims; readers refuse files newer than themselves.
+LIBRARY_VERSION = 3.4
+NAME_LENGTH = 32  # ADF/HDF5 node names and labels: at most 32 characters
+#: Children of Base that are not families or zones.
+BASE_CHILDREN = ("DataClass", "DimensionalUnits")
+FLAGS = np.array([1], dtype=np.int32)  # bit 0: Fortran (reversed) dimensions, set by every CGNS/HDF5 file
+
+
+def _string_type(h5py, size: int):
+    """A fixed-length, null-terminated ASCII HDF5 string type of ``size`` bytes."""
+    t = h5py.h5t.C_S1.copy()
+    t.set_size(size)
+    t.set_strpad(h5py.h5t.STR_NULLTERM)
+    return t
+
+
+def _str_attr(h5py, obj, key: str, value: str, size: int) -> None:
+    """Attach a scalar string attribute the way the CGNS HDF5 layer does."""
+    tid = _string_type(h5py, size)
+    aid = h5py.h5a.create(obj.id, key.encode(), tid, h5py.h5s.create(h5py.h5s.SCALAR))
+    aid.write(np.array(value.encode("ascii"), dtype=f"S{size}"), mtype=tid)
+
+
+def _chars(text: str) -> np.ndarray:
+    """C1 node data: the characters, without a terminator (SIDS character arrays)."""
+    return np.frombuffer(text.encode("ascii"), dtype=np.int8)
+
+
+def _ints(values) -> tuple[str, np.ndarray]:
+    """I4 when every value fits in 32 bits, else I8 (the CGNS cgsize_t choice)."""
+    a = np.asarray(values, dtype=np.int64)
+    if a.size == 0 or (a.min() >= -(2**31) and a.max() < 2**31):
+        return "I4", a.astype(np.int32)
+    return "I8", a
+
+
+def _check_name(name: str, what: str) -> str:
+    if (not name or name != name.strip() or "/" in name or name == "." or len(name) > NAME_LENGTH
+            or not name.isascii() or name in BASE_CHILDREN):
+        raise WriteError(
+            f"{what} {name!r} is not a valid CGNS node name; valid: 1 to {NAME_LENGTH} ASCII "
+            f"characters, no '/', no leading or trailing space, not one of {', '.join(BASE_CHILDREN)}"
+        )
+    return name
+
+
+class _Tree:
+    """Writes CGNS nodes into an open h5py file."""
+
+    def __init__(self, h5py, f):
+        self.h5py = h5py
+        self.f = f
+
+    def node(self, parent, name: str, label: str, dtype: str = "MT", data: np.ndarray | None = None):
+        g = parent.create_group(name, track_order=True)
+        _str_attr(self.h5py, g, "name", name, NAME_LENGTH + 1)
+        _str_attr(self.h5py, g, "label", label, NAME_LENGTH + 1)
+        _str_attr(self.h5py, g, "type", dtype, 3)
+        g.attrs.create("flags", FLAGS)
+        if data is not None:
+            g.create_dataset(" data", data=data)
+        return g
+
+    def text(self, parent, name: str, label: str, value: str):
+        return self.node(parent, name, label, "C1", _chars(value))
+
+    def ints(self, parent, name: str, label: str, values):
+        """Sizes and indices (the library's cgsize_t): I4, or I8 when they need it."""
+        code, a = _ints(values)
+        return self.node(parent, name, label, code, a)
+
+    def int4(self, parent, name: str, label: str, values):
+        """Plain ``int`` data of the SIDS (dimensions, element type, transform): always I4."""
+        return self.node(parent, name, label, "I4", np.asarray(values, dtype=np.int32))
+
+    def root(self) -> None:
+        """Root attributes and datasets, as the CGNS library's HDF5 layer writes them."""
+        h5py = self.h5py
+        _str_attr(h5py, self.f, "name", "HDF5 MotherNode", NAME_LENGTH + 1)
+        _str_attr(h5py, self.f, "label", "Root Node of HDF5 File", NAME_LENGTH + 1)
+        _str_attr(h5py, self.f, "type", "MT", 3)
+        # The library records the machine's native float format, null-terminated
+        # (IEEE_LITTLE_32 on x86-64); h5py writes native byte order too.
+        end = "LITTLE" if sys.byteorder == "little" else "BIG"
+        self.f.create_dataset(" format", data=_chars(f"IEEE_{end}_32\0"))
+        version = np.zeros(NAME_LENGTH + 1, dtype=np.int8)
+        text = _chars(f"HDF5 Version {h5py.version.hdf5_version}")
+        version[: text.size] = text
+        self.f.create_dataset(" hdf5version", data=version)
+        self.node(self.f, "CGNSLibraryVersion", "CGNSLibraryVersion_t", "R4",
+                  np.array([LIBRARY_VERSION], dtype=np.float32))
+
+    def base(self, mesh: Mesh, cell_dim: int, phys_dim: int):
+        base = self.int4(self.f, "Base", "CGNSBase_t", [cell_dim, phys_dim])
+        self.text(base, "DataClass", "DataClass_t", "Dimensional")
+        units = np.full((5, NAME_LENGTH), ord(" "), dtype=np.int8)  # five blank-padded names
+        for n, u in enumerate(("Kilogram", "Meter", "Second", "Kelvin", "Degree")):
+            units[n, : len(u)] = _chars(u)
+        self.node(base, "DimensionalUnits", "DimensionalUnits_t", "C1", units)
+        for g in mesh.groups:
+            fam = self.node(base, _check_name(g.name, "group name"), "Family_t")
+            self.text(fam, "FamilyBC", "FamilyBC_t", _bc_type(g.role, g.name))
+        return base
+
+    def coordinates(self, zone, arrays: dict[str, np.ndarray]) -> None:
+        gc = self.node(zone, "GridCoordinates", "GridCoordinates_t")
+        for name, a in arrays.items():
+            arr = self.node(gc, name, "DataArray_t", "R8", np.ascontiguousarray(a, dtype=np.float64))
+            # Mass, length, time, temperature, angle: a coordinate is a length [m].
+            self.node(arr, "DimensionalExponents", "DimensionalExponents_t", "R4",
+                      np.array([0, 1, 0, 0, 0], dtype=np.float32))
+
+    def bc(self, zbc, name: str, group: str, role: str, lo, hi, location: str | None = None) -> None:
+        bc = self.text(zbc, name, "BC_t", _bc_type(role, group))
+        self.ints(bc, "PointRange", "IndexRange_t", [lo, hi])  # HDF5 (2, idim) = CGNS (idim, 2)
+        if location:
+            self.text(bc, "GridLocation", "GridLocation_t", location)
+        self.text(bc, "FamilyName", "FamilyName_t", group)
+
+
+def _bc_type(role: str, group: str) -> str:
+    try:
+        return ROLE_BC[role]
+    except KeyError:
+        raise WriteError(f"group {group!r} has role {role!r}; valid roles: {', '.join(ROLE_BC)}") from None
+
+
+def _unique(name: str, taken: set[str]) -> str:
+    """``name``, or ``name_2``, ``name_3``... if a sibling already has it (max 32 chars)."""
+    out, n = name, 1
+    while out in taken:
+        n += 1
+        suffix = f"_{n}"
+        out = name[: NAME_LENGTH - len(suffix)] + suffix
+    taken.add(out)
+    return out
+
+
+def _zone_names(mesh: Mesh, blocks) -> list[str]:
+    """Block names as zone names; a block named like a group (a Family_t) gets ``_zone``."""
+    families = {g.name for g in mesh.groups}
+    taken = set(families)
+    names = []
+    for b in blocks:
+        base = _check_name(b.name, "block name")
+        names.append(_unique(base if base not in families else base[: NAME_LENGTH - 5] + "_zone", taken))
+    return names
+
+
+def _write_structured(tree: _Tree, mesh: Mesh) -> None:
+    ni, nj, nk = grid_shape(mesh)
+    dim = mesh.dim
+    blocks = grid_blocks(mesh)
+    pieces = group_pieces(mesh)
+    base = tree.base(mesh, dim, dim)
+    zones = _zone_names(mesh, blocks)
+    grid = mesh.points.reshape(nk, nj, ni, 3)
+    axes = ("CoordinateX", "CoordinateY", "CoordinateZ")[:dim]
+    for bi, (b, zname) in enumerate(zip(blocks, zones, strict=True)):
+        nib = b.i1 - b.i0 + 1
+        nodes = [nib, nj, nk][:dim]
+        zone = tree.ints(base, zname, "Zone_t", [nodes, [n - 1 for n in nodes], [0] * dim])
+        tree.text(zone, "ZoneType", "ZoneType_t", "Structured")
+        sub = grid[:, :, b.i0 : b.i1 + 1, :]
+        if dim == 2:
+            sub = sub[0]  # (nj, nib, 3): reversed CGNS dimensions (nib, nj)
+        tree.coordinates(zone, {name: sub[..., c] for c, name in enumerate(axes)})
+        zbc = tree.node(zone, "ZoneBC", "ZoneBC_t")
+        taken: set[str] = set()
+        for pc in (p for p in pieces if p.block == bi):
+            tree.bc(zbc, _unique(pc.group, taken), pc.group, pc.role, pc.lo[:dim], pc.hi[:dim])
+        if len(blocks) > 1:
+            zgc = tree.node(zone, "ZoneGridConnectivity", "ZoneGridConnectivity_t")
+            full = [nj, nk][: dim - 1]
+            for side, other in (("imin", bi - 1), ("imax", bi + 1)):
+                if not 0 <= other < len(blocks):
+                    continue
+                here = 1 if side == "imin" else nib
+                there = blocks[other].i1 - blocks[other].i0 + 1 if side == "imin" else 1
+                cname = f"{side}_{zones[other]}"[:NAME_LENGTH]
+                conn = tree.text(zgc, cname, "GridConnectivity1to1_t", zones[other])
+                ones = [1] * (dim - 1)
+                tree.ints(conn, "PointRange", "IndexRange_t", [[here, *ones], [here, *full]])
+                tree.ints(conn, "PointRangeDonor", "IndexRange_t", [[there, *ones], [there, *full]])
+                # Same index directions on both sides: the blocks share one global grid.
+                tree.int4(conn, "Transform", '"int[IndexDimension]"', list(range(1, dim + 1)))
+
+
+def _write_unstructured(tree: _Tree, mesh: Mesh) -> None:
+    dim = mesh.dim
+    base = tree.base(mesh, dim, dim)
+    zname = _unique(_check_name(mesh.cell_group, "cell group name"), {g.name for g in mesh.groups})
+    zone = tree.ints(base, zname, "Zone_t", [[mesh.n_points], [mesh.n_cells], [0]])
+    tree.text(zone, "ZoneType", "ZoneType_t", "Unstructured")
+    axes = ("CoordinateX", "CoordinateY", "CoordinateZ")[:dim]
+    tree.coordinates(zone, {name: mesh.points[:, c] for c, name in enumerate(axes)})
+    sections = [(mesh.cell_group, mesh.cell_type, mesh.cells)]
+    sections += [(g.name, mesh.facet_type, g.facets) for g in mesh.groups]
+    taken: set[str] = set()
+    first = 1
+    ranges = []
+    for name, kind, conn in sections:  # elements numbered 1.. across sections, cells first
+        last = first + conn.shape[0] - 1
+        sec = tree.int4(zone, _unique(name, taken), "Elements_t", [ELEMENT_TYPE[kind], 0])
+        tree.ints(sec, "ElementRange", "IndexRange_t", [first, last])
+        tree.ints(sec, "ElementConnectivity", "DataArray_t", (conn + 1).ravel())
+        ranges.append((first, last))
+        first = last + 1
+    zbc = tree.node(zone, "ZoneBC", "ZoneBC_t")
+    # A BC on boundary elements: faces in 3-D, edges in 2-D (SIDS GridLocation_t).
+    location = "FaceCenter" if dim == 3 else "EdgeCenter"
+    for g, (lo, hi) in zip(mesh.groups, ranges[1:], strict=True):
+        tree.bc(zbc, g.name, g.name, g.role, [lo], [hi], location)
+
+
+def _outputs(out_dir: Path, stem: str) -> list[Path]:
+    return [Path(out_dir) / f"{stem}.cgns"]
+
+
+def write(mesh: Mesh, out_dir: Path, stem: str) -> list[Path]:
+    """Write ``<stem>.cgns`` into ``out_dir``; structured zones when the mesh has a layout."""
+    import h5py
+
+    for g in mesh.groups:  # fail before a file exists
+        _bc_type(g.role, g.name)
+        _check_name(g.name, "group name")
+        if g.facets.shape[0] == 0:
+            raise WriteError(f"group {g.name!r} has no facets; a CGNS boundary condition needs at least one")
+    target = _outputs(out_dir, stem)[0]
+    # HDF5 1.8 object formats, as the CGNS library itself writes (its V18 bounds), so
+    # that readers built on older HDF5 releases open the file.
+    with atomic_file(target) as tmp, h5py.File(tmp, "w", libver=("v108", "v108"), track_order=True) as f:
+        tree = _Tree(h5py, f)
+        tree.root()
+        if mesh.shape is None:
+            _write_unstructured(tree, mesh)
+        else:
+            _write_structured(tree, mesh)
+    return [target]
+
+
+register(
+    Format(
+        name="cgns",
+        description="CGNS/HDF5: structured zones per block with BCs, families and 1-to-1 interfaces",
+        solvers="CGNS readers: SU2, CFL3D, FUN3D, ParaView, VisIt",
+        outputs=_outputs,
+        write=write,
+    )
+)

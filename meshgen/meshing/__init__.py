@@ -1,0 +1,1 @@
+"""Meshing: the gmsh session, the builder, the Mesh arrays, extrusion and verification."""

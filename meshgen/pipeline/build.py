@@ -1,0 +1,146 @@
+"""One build, start to finish: case -> plan -> mesh -> files in one output folder.
+
+Everything that can be checked is checked before anything is written: the case, the
+formats, the output folder and whether outputs would be overwritten. The mesh files are
+written atomically; ``plan.json`` is written last, so its presence marks a finished build.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+from collections.abc import Callable
+from pathlib import Path
+
+from ..core.errors import InputError
+from ..io.atomic import clean_stale, write_text
+from ..planning.plan import Plan
+
+Progress = Callable[[str], None]
+
+
+def _quiet(_: str) -> None:
+    pass
+
+
+def output_folder(output: str | os.PathLike | None, case_name: str) -> Path:
+    """The output folder, checked: not a file, and creatable or writable."""
+    out = Path(output) if output else Path("outputs") / case_name
+    try:
+        if out.exists() and not out.is_dir():
+            raise InputError(f"-o {out}: is a file, not a folder")
+        probe = out
+        while not probe.exists():
+            probe = probe.parent
+    except PermissionError:
+        raise InputError(f"-o {out}: a folder on the way is not readable or writable") from None
+    if not probe.is_dir():
+        raise InputError(f"-o {out}: {probe} is a file, not a folder")
+    if not os.access(probe, os.W_OK | os.X_OK):
+        raise InputError(f"-o {out}: folder {probe} is not writable")
+    return out
+
+
+def resolve_formats(names: list[str] | None, default: list[str]):
+    from ..io.writers import get_format
+
+    chosen = list(dict.fromkeys(names or default))
+    problems, fmts = [], []
+    for n in chosen:
+        try:
+            fmts.append(get_format(n))
+        except InputError as exc:
+            problems += exc.problems
+    if problems:
+        raise InputError(problems)
+    return fmts
+
+
+#: Reports written beside every mesh (plan.json last, as the mark of a finished build).
+REPORT_FILES = ("bc.json", "bc.md", "quality.json", "report.md", "plan.json")
+
+
+def planned_outputs(out: Path, stem: str, fmts) -> list[Path]:
+    paths = [p for f in fmts for p in f.outputs(out, stem)]
+    return paths + [out / name for name in REPORT_FILES]
+
+
+def build_plan(plan: Plan, out: Path, fmts, force: bool = False, pictures: bool = True,
+               verbose: bool = False, progress: Progress = _quiet) -> list[Path]:
+    """Build and write one plan into ``out``; return the files written."""
+    from ..meshing.builder import build_mesh
+
+    stem = plan.case.name
+    targets = planned_outputs(out, stem, fmts)
+    existing = [p for p in targets if p.exists()]
+    if existing and not force:
+        raise InputError(
+            [f"{p}: exists; use --force to overwrite" for p in existing[:5]]
+            + ([f"... and {len(existing) - 5} more"] if len(existing) > 5 else [])
+        )
+    out.mkdir(parents=True, exist_ok=True)
+    clean_stale(out)
+    progress(f"building {plan.cell_count:,} cells ({plan.case.name}, level {plan.level})")
+    mesh = build_mesh(plan, verbose=verbose)
+    written: list[Path] = []
+    for f in fmts:
+        progress(f"writing {f.name}")
+        written += f.write(mesh, out, stem)
+    extra = _after_build_hooks(plan, mesh, out, pictures, progress)
+    written += extra
+    d = plan.to_dict()
+    d["files"] = [str(p.relative_to(out)) for p in written]
+    written.append(write_text(out / "plan.json", json.dumps(d, indent=2) + "\n"))
+    return written
+
+
+def quality_for_plan(plan: Plan, mesh) -> dict:
+    """The quality report of a built mesh, with the boundary-layer section from its plan."""
+    from ..physics import correlations as bl
+    from ..reports.boundary_layer import boundary_layer_report
+    from ..reports.quality import quality_report
+
+    f, w = plan.flow, plan.case.wall
+    x_ref = w.reference_station * f.length
+    cf = bl.skin_friction(bl.reynolds_x(x_ref, f.velocity, f.nu), f.correlation)
+    target = float(bl.y_plus(plan.first_cell_height, f.velocity, f.nu, cf))  # = wall.y_plus when sized by it
+    blr = boundary_layer_report(mesh, plan.case.names.wall, f.velocity, f.nu, f.regime, f.correlation,
+                                target, plate_length=f.length, x_ref=x_ref)
+    return quality_report(mesh, blr)
+
+
+def _after_build_hooks(plan: Plan, mesh, out: Path, pictures: bool, progress: Progress) -> list[Path]:
+    """Reports written beside the mesh: boundary-condition sheet, quality report, pictures."""
+    from ..reports.bc_sheet import bc_markdown, bc_sheet
+    from ..reports.markdown import quality_markdown
+
+    sheet = bc_sheet(plan)
+    written = [
+        write_text(out / "bc.json", json.dumps(sheet, indent=2) + "\n"),
+        write_text(out / "bc.md", bc_markdown(sheet)),
+    ]
+    progress("quality report")
+    report = quality_for_plan(plan, mesh)
+    pics: list[Path] = []
+    if pictures:
+        from ..reports.plots import make_pictures
+
+        progress("pictures")
+        pics = make_pictures(mesh, report, plan.case.name, out)
+    written.append(write_text(out / "quality.json", json.dumps(report, indent=2) + "\n"))
+    written.append(write_text(out / "report.md", quality_markdown(report, plan.case.name, pics)))
+    return written + pics
+
+
+def build_case(case_path=None, overrides=None, output=None, formats=None, force=False,
+               pictures=True, verbose=False, progress: Progress = _quiet) -> list[Path]:
+    from ..case import load_case
+    from ..planning.plan import make_plan
+
+    case = load_case(case_path, overrides)
+    plan = make_plan(case)
+    fmts = resolve_formats(formats, case.output.formats)
+    out = output_folder(output, case.name)
+    for w in plan.warnings:
+        progress(f"warning: {w}")
+    return build_plan(plan, out, fmts, force=force, pictures=pictures, verbose=verbose, progress=progress)

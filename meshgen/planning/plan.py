@@ -1,0 +1,365 @@
+"""The Plan: node distributions of every block and the figures derived from them.
+
+``make_plan(case)`` resolves the flow (Reynolds number, regime, correlation), sizes the
+boundary layer, and builds the 1-D node arrays: one wall-normal array ``y`` shared by all
+blocks (so the blocks conform) and one streamwise array ``x`` through the upstream, plate
+and wake blocks, with matching spacing at the block interfaces. Coarser members of a
+refinement family sample the same mappings (``coarsen``).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field, replace
+
+import numpy as np
+
+from ..case import Case
+from ..core.errors import CaseError
+from ..physics import correlations as bl
+from ..physics.fluids import fluid_state
+from .layout import Block, Patch
+from .spacing import capped_geometric, geometric_nodes, resample, solve_geometric, two_sided
+
+#: Stations x/L where the plan counts cells inside delta99.
+BL_STATIONS = (0.1, 0.5, 1.0)
+
+
+@dataclass(frozen=True)
+class FlowState:
+    """Resolved free stream: U [m/s], nu [m2/s], rho [kg/m3], L [m], Re_L [-]."""
+
+    velocity: float
+    nu: float
+    density: float
+    density_given: bool
+    length: float
+    reynolds: float
+    regime: str
+    correlation: str
+
+
+@dataclass(frozen=True, eq=False)
+class Plan:
+    case: Case
+    flow: FlowState
+    x: np.ndarray  # streamwise nodes [m], plate from 0 to L
+    y: np.ndarray  # wall-normal nodes [m], 0 to H
+    z: np.ndarray | None  # spanwise nodes [m] or None in 2-D
+    blocks: tuple[Block, ...]
+    delta99_end: float
+    domain_height: float
+    setup_warnings: tuple[str, ...] = field(default=())  # from the flow and the domain
+    level: int = 0  # 0 = the case as given; k = coarsened k times in a family
+
+    @property
+    def warnings(self) -> tuple[str, ...]:
+        """Warnings of the case and of this plan's own resolution (per family level)."""
+        return self.setup_warnings + resolution_warnings(self.y, self.delta99_end)
+
+    @property
+    def dim(self) -> int:
+        return 2 if self.z is None else 3
+
+    @property
+    def node_count(self) -> int:
+        n = self.x.size * self.y.size
+        return n if self.z is None else n * self.z.size
+
+    @property
+    def cell_count(self) -> int:
+        n = (self.x.size - 1) * (self.y.size - 1)
+        return n if self.z is None else n * (self.z.size - 1)
+
+    @property
+    def first_cell_height(self) -> float:
+        return float(self.y[1] - self.y[0])
+
+    @property
+    def growth_ratio(self) -> float:
+        d = np.diff(self.y)
+        return float(d[1] / d[0]) if d.size > 1 else 1.0
+
+    def block_cells(self) -> dict[str, int]:
+        ny = self.y.size - 1
+        nz = 1 if self.z is None else self.z.size - 1
+        return {b.name: (b.i1 - b.i0) * ny * nz for b in self.blocks}
+
+    def group_layout(self) -> list[tuple[str, str, tuple[Patch, ...]]]:
+        """(name, role, patches) of every 2-D boundary group, from the blocks present."""
+        n = self.case.names
+        last = self.x.size - 1
+        plate = self.block("plate")
+        sym = tuple(
+            Patch("jmin", b.i0, b.i1) for b in self.blocks if b.name in ("upstream", "wake")
+        )
+        groups = [
+            (n.inlet, "inlet", (Patch("imin"),)),
+            (n.outlet, "outlet", (Patch("imax"),)),
+            (n.wall, "wall", (Patch("jmin", plate.i0, plate.i1),)),
+            (n.farfield, "farfield", (Patch("jmax", 0, last),)),
+        ]
+        if sym:
+            groups.append((n.symmetry, "symmetry", sym))
+        return groups
+
+    def block(self, name: str) -> Block:
+        return next(b for b in self.blocks if b.name == name)
+
+    def plate_nodes(self) -> np.ndarray:
+        p = self.block("plate")
+        return self.x[p.i0 : p.i1 + 1]
+
+    def y_plus_along_plate(self) -> tuple[np.ndarray, np.ndarray]:
+        """x [m] (x > 0) and the first-cell y+ the correlation estimates there."""
+        xs = self.plate_nodes()[1:]
+        cf = bl.skin_friction(bl.reynolds_x(xs, self.flow.velocity, self.flow.nu), self.flow.correlation)
+        return xs, bl.y_plus(self.first_cell_height, self.flow.velocity, self.flow.nu, cf)
+
+    def cells_in_delta99(self, stations: tuple[float, ...] = BL_STATIONS) -> dict[str, int]:
+        """Wall-normal cells whose top lies inside delta99(x) at each station x/L."""
+        f = self.flow
+        xs = np.asarray(stations) * f.length
+        d = bl.delta99(xs, bl.reynolds_x(xs, f.velocity, f.nu), f.regime)
+        counts = np.searchsorted(self.y, d, side="right") - 1
+        return {f"{s:g}": int(c) for s, c in zip(stations, counts)}
+
+    def max_aspect_ratio(self) -> float:
+        dx, dy = np.diff(self.x), np.diff(self.y)
+        return float(max(dx.max() / dy.min(), dy.max() / dx.min()))
+
+    def to_dict(self) -> dict:
+        """The figures for people and for plan.json (plain JSON types only)."""
+        f = self.flow
+        xs, yp = self.y_plus_along_plate()
+        corr = bl.CORRELATIONS[f.correlation]
+        return {
+            "case": self.case.name,
+            "level": self.level,
+            "dimension": self.dim,
+            "reynolds": f.reynolds,
+            "regime": f.regime,
+            "correlation": {"name": corr.name, "formula": corr.formula, "source": corr.source},
+            "velocity": f.velocity,
+            "nu": f.nu,
+            "density": f.density,
+            "length": f.length,
+            "delta99_end": self.delta99_end,
+            "domain_height": self.domain_height,
+            "first_cell_height": self.first_cell_height,
+            "growth_ratio": self.growth_ratio,
+            "y_plus_target": self.case.wall.y_plus if self.case.wall.first_cell_height is None else None,
+            "reference_station": self.case.wall.reference_station,
+            "nodes": {"x": int(self.x.size), "y": int(self.y.size),
+                      "z": None if self.z is None else int(self.z.size)},
+            "cells": self.cell_count,
+            "cells_per_block": self.block_cells(),
+            "cells_in_delta99": self.cells_in_delta99(),
+            "y_plus_range": [float(yp.min()), float(yp.max())],
+            "y_plus_range_stations": [float(xs[np.argmin(yp)] / f.length), float(xs[np.argmax(yp)] / f.length)],
+            "max_aspect_ratio": self.max_aspect_ratio(),
+            "streamwise_first_spacing": float(self.plate_nodes()[1] - self.plate_nodes()[0]),
+            "extent": {"x": [float(self.x[0]), float(self.x[-1])], "y": [0.0, float(self.y[-1])],
+                       "z": None if self.z is None else [0.0, float(self.z[-1])]},
+            "groups": [g[0] for g in self.group_layout()]
+            + ([] if self.z is None else [self.case.names.back, self.case.names.front]),
+            "warnings": list(self.warnings),
+        }
+
+
+def resolve_flow(case: Case) -> tuple[FlowState, list[str]]:
+    """Velocity, viscosity, density and Reynolds number from whichever inputs were given."""
+    f = case.flow
+    density, density_given = f.density, f.density is not None
+    nu = f.nu
+    if f.fluid is not None:
+        state = fluid_state(f.fluid, f.temperature, f.pressure)
+        nu = state.nu
+        if density is None:
+            density, density_given = state.density, True
+    if f.reynolds is not None:
+        re = f.reynolds
+        if f.velocity is not None:
+            velocity = f.velocity
+            nu = velocity * f.length / re
+        elif nu is not None:
+            velocity = re * nu / f.length
+        else:  # non-dimensional: unit speed, viscosity from Re
+            velocity = 1.0
+            nu = f.length / re
+    else:
+        velocity = f.velocity
+        re = velocity * f.length / nu
+    regime, warnings = bl.regime_for(re, f.regime)
+    if regime == "turbulent" and re < bl.TURBULENT_MIN_RE:
+        raise CaseError(
+            f"flow.regime: turbulent at Re_L = {re:.3g}; the turbulent correlations need "
+            f"Re_L >= {bl.TURBULENT_MIN_RE:.0e} (use laminar or auto)"
+        )
+    corr = f.correlation or bl.DEFAULT_CORRELATION[regime]
+    if bl.CORRELATIONS[corr].regime != regime:
+        raise CaseError(
+            f"flow.correlation: {corr!r} is a {bl.CORRELATIONS[corr].regime} correlation but the "
+            f"regime is {regime}; valid for {regime}: "
+            + ", ".join(c.name for c in bl.CORRELATIONS.values() if c.regime == regime)
+        )
+    _, hi = bl.CORRELATIONS[corr].re_range
+    if re > hi:
+        warnings.append(f"Re_L = {re:.3g} is above the stated range of the {corr} correlation (up to {hi:.0e})")
+    return (
+        FlowState(velocity, nu, 1.0 if density is None else density, density_given, f.length, re, regime, corr),
+        warnings,
+    )
+
+
+def wall_normal_nodes(case: Case, flow: FlowState, height: float, delta_end: float) -> np.ndarray:
+    """Nodes from the wall to H: two of (first spacing, ratio, count) fix the third."""
+    w = case.wall
+    if w.first_cell_height is not None:
+        first = w.first_cell_height
+    else:
+        x_ref = w.reference_station * flow.length
+        cf = bl.skin_friction(bl.reynolds_x(x_ref, flow.velocity, flow.nu), flow.correlation)
+        first = float(bl.wall_spacing(w.y_plus, flow.velocity, flow.nu, cf))
+    if first >= height:
+        raise CaseError(
+            f"wall: first-cell height {first:.4g} m is not smaller than the domain height "
+            f"{height:.4g} m; lower wall.y_plus or raise domain.height_factor"
+        )
+    if w.cells is None:
+        return capped_geometric(height, first, w.growth_ratio, w.max_spacing * delta_end, "wall")
+    spacing_given = w.first_cell_height is not None or "y_plus" in w.model_fields_set
+    if "growth_ratio" in w.model_fields_set and not spacing_given:
+        first, ratio, count = solve_geometric(height, ratio=w.growth_ratio, count=w.cells)
+    else:
+        first, ratio, count = solve_geometric(height, first=first, count=w.cells)
+    if ratio > 2.0:
+        raise CaseError(
+            f"wall.cells = {w.cells}: from a first cell of {first:.3g} m this needs a growth "
+            f"ratio of {ratio:.3g} (valid up to 2); raise wall.cells"
+        )
+    nodes = geometric_nodes(first, ratio, count)
+    nodes[-1] = height
+    return nodes
+
+
+def plate_with_count(length: float, dx_le: float, dx_te: float, cells: int) -> np.ndarray:
+    """``cells`` plate cells: two geometric layers from the edges meeting at mid-plate,
+    each with its ratio solved from its first spacing and its half of the count."""
+    left_n = cells // 2
+    right_n = cells - left_n
+    half = 0.5 * length
+    parts = []
+    for first, n in ((dx_le, left_n), (dx_te, right_n)):
+        if first * n > half * (1 + 1e-12):
+            raise CaseError(
+                f"streamwise.cells = {cells}: {n} cells of at least {first:.4g} m do not fit half "
+                f"the plate ({half:.4g} m); lower the edge spacings or streamwise.cells"
+            )
+        f, g, _ = solve_geometric(half, first=first, count=n)
+        nodes = geometric_nodes(f, g, n)
+        nodes[-1] = half
+        parts.append(nodes)
+    left, right = parts
+    nodes = np.concatenate([left, length - right[::-1][1:]])
+    nodes[-1] = length
+    return nodes
+
+
+def streamwise_nodes(case: Case, length: float) -> tuple[np.ndarray, tuple[Block, ...]]:
+    """x nodes through the upstream, plate and wake blocks, spacing matched at x = 0 and L."""
+    s, d = case.streamwise, case.domain
+    dx_le, dx_te = s.leading_edge_spacing * length, s.trailing_edge_spacing * length
+    if s.cells is None:
+        plate = two_sided(length, dx_le, dx_te, s.growth_ratio, s.max_spacing * length, "streamwise")
+    else:
+        plate = plate_with_count(length, dx_le, dx_te, s.cells)
+    parts, blocks, start = [], [], 0
+    if d.upstream > 0:
+        up = capped_geometric(d.upstream * length, dx_le, s.growth_ratio, s.far_spacing * length, "domain.upstream")
+        parts.append(-up[::-1])
+        blocks.append(Block("upstream", 0, up.size - 1))
+        start = up.size - 1
+    parts.append(plate if not parts else plate[1:])
+    blocks.append(Block("plate", start, start + plate.size - 1))
+    start += plate.size - 1
+    if d.downstream > 0:
+        wake = capped_geometric(d.downstream * length, dx_te, s.growth_ratio, s.far_spacing * length, "domain.downstream")
+        parts.append(length + wake[1:])
+        blocks.append(Block("wake", start, start + wake.size - 1))
+    x = np.concatenate(parts)
+    return x, tuple(blocks)
+
+
+def _check_cell_limit(case: Case, cells: int) -> None:
+    if cells > case.output.max_cells:
+        raise CaseError(
+            f"output.max_cells: the plan needs {cells:,} cells, above the limit of "
+            f"{case.output.max_cells:,}; raise output.max_cells or coarsen the case"
+        )
+
+
+def make_plan(case: Case) -> Plan:
+    flow, warnings = resolve_flow(case)
+    xl = flow.length
+    delta_end = float(bl.delta99(xl, flow.reynolds, flow.regime))
+    height = case.domain.height_factor * delta_end
+    # Estimate the counts before allocating anything big.
+    x, blocks = streamwise_nodes(case, xl)
+    y = wall_normal_nodes(case, flow, height, delta_end)
+    z = None
+    nz = 1
+    if case.domain.span > 0:
+        nz = case.domain.span_cells
+        z = np.linspace(0.0, case.domain.span * xl, nz + 1)
+    _check_cell_limit(case, (x.size - 1) * (y.size - 1) * nz)
+    if case.domain.height_factor < 10:
+        warnings.append("domain.height_factor below 10: the top boundary may affect the boundary layer")
+    return Plan(case, flow, x, y, z, blocks, delta_end, height, tuple(warnings))
+
+
+def resolution_warnings(y: np.ndarray, delta_end: float) -> tuple[str, ...]:
+    cells = int(np.searchsorted(y, delta_end, side="right") - 1)
+    if cells >= 10:
+        return ()
+    return (
+        (f"only {cells} wall-normal cells inside delta99 at the plate end; lower "
+        "wall.growth_ratio or wall.max_spacing (common practice wants 20 or more)"),
+    )
+
+
+def _count(cells: int, factor: float, least: int) -> int:
+    """cells / factor rounded half up (not Python's half-to-even), at least ``least``."""
+    return max(least, math.floor(cells / factor + 0.5))
+
+
+def coarsen(plan: Plan, factor: float, level: int) -> Plan:
+    """The plan with every block's cell count divided by ``factor`` (same mappings).
+
+    Each block of ``x`` and the ``y`` and ``z`` arrays are resampled on their own, so block
+    interfaces stay where they are; with an integer factor that divides every count the
+    coarse nodes are exactly a subset of the fine nodes.
+    """
+    parts, blocks, start = [], [], 0
+    for b in plan.blocks:
+        seg = plan.x[b.i0 : b.i1 + 1]
+        n = _count(seg.size - 1, factor, 1)
+        new = resample(seg, n)
+        parts.append(new if not parts else new[1:])
+        blocks.append(Block(b.name, start, start + n))
+        start += n
+    y = resample(plan.y, _count(plan.y.size - 1, factor, 2))
+    z = None
+    if plan.z is not None:
+        z = resample(plan.z, _count(plan.z.size - 1, factor, 1))
+    return replace(plan, x=np.concatenate(parts), y=y, z=z, blocks=tuple(blocks), level=level)
+
+
+def spacing_summary(nodes: np.ndarray) -> dict[str, float]:
+    d = np.diff(nodes)
+    g = d[1:] / d[:-1] if d.size > 1 else np.ones(1)
+    return {"first": float(d[0]), "last": float(d[-1]), "min": float(d.min()), "max": float(d.max()),
+            "max_growth": float(max(g.max(), 1.0 / g.min()))}
+
+
+__all__ = ["FlowState", "Plan", "coarsen", "make_plan", "resolve_flow", "spacing_summary"]

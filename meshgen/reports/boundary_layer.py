@@ -1,0 +1,155 @@
+"""The boundary-layer report of a Mesh: cells across delta99, first-cell height and y+ along the plate."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ..core.errors import InputError
+from ..meshing.mesh import Mesh
+from ..physics.correlations import (
+    CORRELATIONS,
+    DEFAULT_CORRELATION,
+    delta99,
+    reynolds_x,
+    skin_friction,
+    y_plus,
+)
+from .structure import recover_structure
+
+# --- boundary-layer resolution ---------------------------------------------------------
+
+#: Default y+ band around the target, as factors (meshgen's choice, stated in the report).
+Y_PLUS_BAND = (0.5, 1.5)
+
+
+def _check_flow(mesh: Mesh, wall_group: str, velocity: float, nu: float, regime: str,
+                correlation: str, y_plus_target: float, stations, band) -> list[str]:
+    problems = []
+    if wall_group not in [g.name for g in mesh.groups]:
+        problems.append(f"wall_group: no group {wall_group!r}; groups: {[g.name for g in mesh.groups]}")
+    for name, v in (("velocity", velocity), ("nu", nu), ("y_plus_target", y_plus_target)):
+        if not v > 0:
+            problems.append(f"{name}: {v!r} must be a positive number")
+    if regime not in ("laminar", "turbulent"):
+        problems.append(f"regime: {regime!r}; valid: laminar, turbulent (resolve 'auto' first)")
+    if correlation not in CORRELATIONS:
+        problems.append(f"correlation: {correlation!r}; valid: {', '.join(CORRELATIONS)}")
+    if not all(0 < s <= 1 for s in stations):
+        problems.append(f"stations: {list(stations)} must be fractions of the plate length in (0, 1]")
+    if band is not None and not (len(band) == 2 and 0 <= band[0] < band[1]):
+        problems.append(f"band: {band!r} must be (low, high) with 0 <= low < high")
+    return problems
+
+
+def _wall_columns(mesh: Mesh, wall_group: str) -> tuple[np.ndarray, np.ndarray] | str:
+    """Node grid of the first z layer (nj, ni, 3) and the wall's i indices, or why not."""
+    grid = mesh.grid()
+    grid = grid[0] if mesh.dim == 3 else grid
+    nj, ni = grid.shape[:2]
+    nodes = np.unique(mesh.group(wall_group).facets)
+    nodes = nodes[nodes < ni * nj]  # the k = 0 layer
+    if nodes.size < 2 or np.any(nodes // ni != 0):
+        return f"wall group {wall_group!r} is not on the j = 0 side of the grid"
+    return grid, np.sort(nodes % ni)
+
+
+def boundary_layer_report(mesh: Mesh, wall_group: str, velocity: float, nu: float, regime: str,
+                          correlation: str | None, y_plus_target: float,
+                          stations: tuple[float, ...] = (0.1, 0.25, 0.5, 0.75, 1.0), *,
+                          plate_length: float | None = None, x_ref: float | None = None,
+                          band: tuple[float, float] | None = None) -> dict:
+    """Boundary-layer resolution of a structured flat-plate mesh, as plain JSON-ready data.
+
+    ``velocity`` [m/s], ``nu`` [m2/s], ``regime`` 'laminar' or 'turbulent', ``correlation``
+    a key of ``meshgen.boundary_layer.CORRELATIONS`` (None: the regime's default).
+    x is measured from the leading edge (the wall's smallest x); ``plate_length`` [m]
+    defaults to the wall's extent, ``x_ref`` [m] (the station the first cell was sized
+    at) to the plate length; ``stations`` are fractions of the plate length.
+
+    Definitions: at each wall node, the node line j = 0 .. nj-1 above it (first z layer);
+    the first-cell height is the wall-normal distance (y - y_wall, the wall being flat
+    along x) of the first off-wall node; "cells in delta99" counts the node intervals of
+    that line lying wholly inside delta99(x) (top node at or below it, as in the Plan).
+    y+ = h1 u_tau / nu with Cf from the correlation at Re_x = U x / nu, at every wall node
+    with x > 0 (Cf is singular at 0).
+    The y+ band is ``band`` or Y_PLUS_BAND times the target; fractions are of the plate
+    length (each wall node weighted by half its two neighbouring intervals).
+    Unstructured meshes get {'omitted': reason}.
+    """
+    correlation = correlation or DEFAULT_CORRELATION.get(regime, "")
+    problems = _check_flow(mesh, wall_group, velocity, nu, regime, correlation, y_plus_target, stations, band)
+    if problems:
+        raise InputError(problems)
+    s = recover_structure(mesh)
+    if s.shape is None:
+        return {"omitted": "not a tensor-product grid: the boundary-layer report needs the structured layout"}
+    found = _wall_columns(s, wall_group)
+    if isinstance(found, str):
+        return {"omitted": found}
+    grid, iw = found
+    x_wall = grid[0, iw, 0]
+    x = x_wall - x_wall.min()
+    length = float(plate_length) if plate_length is not None else float(x.max())
+    x_ref = length if x_ref is None else float(x_ref)
+    height = grid[:, iw, 1] - grid[0, iw, 1]  # (nj, n_wall): wall-normal distances
+    h1 = height[1]
+    lo, hi = (band if band is not None else (Y_PLUS_BAND[0] * y_plus_target, Y_PLUS_BAND[1] * y_plus_target))
+    notes: list[str] = []
+
+    def at(xs: float) -> dict:
+        col = int(np.argmin(np.abs(x - xs)))
+        re = float(reynolds_x(x[col], velocity, nu))
+        d99 = float(delta99(x[col], re, regime)) if re > 0 else 0.0
+        yp = float(y_plus(h1[col], velocity, nu, skin_friction(re, correlation))) if re > 0 else None
+        return {"x_m": float(x[col]), "re_x": re, "delta99_m": d99, "first_cell_height_m": float(h1[col]),
+                "y_plus": yp, "cells_in_delta99": int(np.count_nonzero(height[1:, col] <= d99)), "_col": col}
+
+    table = []
+    for frac in stations:
+        row = at(frac * length)
+        row.pop("_col")
+        table.append({"fraction": float(frac), "x_station_m": float(frac * length), **row})
+    ref = at(x_ref)
+    dy = np.diff(height[:, ref.pop("_col")])
+    ref.update(x_requested_m=x_ref, spacing_m=[float(v) for v in dy],
+               growth_ratio=[float(v) for v in dy[1:] / dy[:-1]],
+               max_growth_ratio=float(np.max(np.maximum(dy[1:], dy[:-1]) / np.minimum(dy[1:], dy[:-1])))
+               if dy.size > 1 else None)
+
+    on = (x > 0) & (x <= length * (1 + 1e-12))
+    re = reynolds_x(x[on], velocity, nu)
+    yp = y_plus(h1[on], velocity, nu, skin_friction(re, correlation))
+    edges = np.concatenate([[x[0]], 0.5 * (x[1:] + x[:-1]), [x[-1]]])
+    weight = np.diff(edges)[on]
+    total = float(weight.sum())
+    c = CORRELATIONS[correlation]
+    outside = int(np.count_nonzero((re < c.re_range[0]) | (re > c.re_range[1])))
+    if outside:
+        notes.append(f"{outside} wall nodes have Re_x outside the {c.name} correlation's range "
+                     f"{c.re_range[0]:.3g} to {c.re_range[1]:.3g}")
+    return {
+        "wall_group": wall_group, "regime": regime, "correlation": c.name, "formula": c.formula,
+        "correlation_source": c.source, "velocity_m_s": float(velocity), "nu_m2_s": float(nu),
+        "plate_length_m": length, "re_l": float(velocity * length / nu),
+        "y_plus_target": float(y_plus_target),
+        "definitions": {
+            "first_cell_height": "wall-normal distance of the first off-wall node, at each wall node",
+            "cells_in_delta99": "node intervals above the wall node nearest the station lying wholly "
+                                "inside delta99(x) (top node at or below delta99)",
+            "y_plus_fraction": "share of the plate length (x > 0) whose wall-node y+ lies below, "
+                               "inside or above the band",
+        },
+        "stations": table,
+        "reference": ref,
+        "y_plus": {
+            "x_m": [float(v) for v in x[on]], "y_plus": [float(v) for v in yp],
+            "min": float(yp.min()), "mean": float(np.sum(yp * weight) / total), "max": float(yp.max()),
+            "band": [float(lo), float(hi)],
+            "band_rule": "given" if band is not None
+                         else f"{Y_PLUS_BAND[0]} to {Y_PLUS_BAND[1]} x target, meshgen's choice",
+            "fraction_below": float(weight[yp < lo].sum() / total),
+            "fraction_in_band": float(weight[(yp >= lo) & (yp <= hi)].sum() / total),
+            "fraction_above": float(weight[yp > hi].sum() / total),
+        },
+        "notes": notes,
+    }
