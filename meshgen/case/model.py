@@ -34,8 +34,12 @@ class Flow(Section):
     temperature: float = Field(288.15, gt=0, le=5000, description="fluid temperature [K]")
     pressure: float = Field(101325.0, gt=0, le=1e9, description="fluid pressure [Pa]")
     density: float | None = Field(None, gt=0, le=1e5, description="density [kg/m3] (sheet only)")
-    regime: Literal["auto", "laminar", "turbulent"] = "auto"
+    regime: Literal["auto", "laminar", "turbulent", "transitional"] = "auto"
     correlation: str | None = Field(None, description="skin-friction correlation name")
+    transition_reynolds: float = Field(5.0e5, ge=1e4, le=1e8, description="Re_x at transition [-] (transitional)")
+    transition_onset: Literal["reynolds", "abu-ghannam-shaw", "mayle"] = Field(
+        "reynolds", description="transition from transition_reynolds or from turbulence_intensity")
+    mach: float | None = Field(None, ge=0, le=10, description="free-stream Mach number; sizes compressible")
     turbulence_intensity: float = Field(0.001, ge=0, le=0.5, description="free-stream Tu [-]")
     viscosity_ratio: float = Field(1.0, gt=0, le=1e5, description="nu_t / nu in the free stream [-]")
 
@@ -67,7 +71,12 @@ class Flow(Section):
 class Wall(Section):
     """Wall-normal distribution: any two of (first spacing, growth ratio, cells)."""
 
-    y_plus: float = Field(1.0, gt=0, le=1000, description="target y+ of the first cell [-]")
+    y_plus: float | None = Field(None, gt=0, le=1000, description="target y+ of the first cell [-] (default per treatment)")
+    treatment: Literal["resolved", "wall-functions", "blended"] = Field(
+        "resolved", description="wall treatment the solver uses: sets the default y+ and its band")
+    y_plus_at: Literal["node", "centre"] = Field(
+        "node", description="y+ measured at the first node (first-cell height) or the first cell centre")
+    temperature: float | None = Field(None, gt=0, le=5000, description="wall temperature [K]; none = adiabatic")
     first_cell_height: float | None = Field(None, gt=0, description="first-cell height [m] (instead of y_plus)")
     growth_ratio: float = Field(1.1, ge=1.0, le=2.0, description="wall-normal growth ratio [-]")
     cells: int | None = Field(None, ge=2, le=100000, description="wall-normal cell count")

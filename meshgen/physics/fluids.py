@@ -51,3 +51,15 @@ def fluid_state(name: str, temperature: float, pressure: float) -> FluidState:
             f"flow.fluid: unknown fluid {name!r}{hint} (CoolProp names such as 'Air', 'Water', 'Nitrogen')"
         ) from None
     return FluidState(name, temperature, pressure, float(rho), float(mu))
+
+
+def sound_properties(name: str, temperature: float, pressure: float) -> tuple[float, float, float]:
+    """Speed of sound [m/s], ratio of specific heats [-] and Prandtl number [-] of a fluid
+    (CoolProp), for the Mach number of a case given by fluid and velocity."""
+    from CoolProp.CoolProp import PropsSI
+
+    fluid_state(name, temperature, pressure)  # the same checks and messages for a bad name
+    a = PropsSI("A", "T", temperature, "P", pressure, name)
+    gamma = PropsSI("Cpmass", "T", temperature, "P", pressure, name) / PropsSI("Cvmass", "T", temperature, "P", pressure, name)
+    pr = PropsSI("Prandtl", "T", temperature, "P", pressure, name)
+    return float(a), float(gamma), float(pr)

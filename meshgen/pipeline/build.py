@@ -12,6 +12,8 @@ import os
 from collections.abc import Callable
 from pathlib import Path
 
+import numpy as np
+
 from ..core.errors import InputError
 from ..io.atomic import clean_stale, write_text
 from ..planning.plan import Plan
@@ -96,16 +98,24 @@ def build_plan(plan: Plan, out: Path, fmts, force: bool = False, pictures: bool 
 
 def quality_for_plan(plan: Plan, mesh) -> dict:
     """The quality report of a built mesh, with the boundary-layer section from its plan."""
-    from ..physics import correlations as bl
+    from ..physics.treatment import TREATMENTS
+    from ..physics.wall import y_plus
     from ..reports.boundary_layer import boundary_layer_report
     from ..reports.quality import quality_report
 
     f, w = plan.flow, plan.case.wall
     x_ref = w.reference_station * f.length
-    cf = bl.skin_friction(bl.reynolds_x(x_ref, f.velocity, f.nu), f.correlation)
-    target = float(bl.y_plus(plan.first_cell_height, f.velocity, f.nu, cf))  # = wall.y_plus when sized by it
-    blr = boundary_layer_report(mesh, plan.case.names.wall, f.velocity, f.nu, f.regime, f.correlation,
-                                target, plate_length=f.length, x_ref=x_ref)
+    centre = w.y_plus_at == "centre"
+    # the y+ at the reference station: the target when the first cell was sized by it
+    target = float(y_plus(plan.first_cell_height, f.wall(np.array([x_ref])), centre)[0])
+    t = TREATMENTS[w.treatment]
+    # wall=f.wall gives every estimate; regime and correlation only label the report
+    regime = "turbulent" if f.regime == "transitional" else f.regime
+    blr = boundary_layer_report(mesh, plan.case.names.wall, f.velocity, f.nu, regime, f.correlation,
+                                target, plate_length=f.length, x_ref=x_ref, wall=f.wall, at_centre=centre,
+                                band=t.band, band_rule=t.description)
+    blr["regime"] = f.regime
+    blr["assumptions"] = plan.to_dict()["assumptions"]
     return quality_report(mesh, blr)
 
 

@@ -16,8 +16,13 @@ import numpy as np
 
 from ..case import Case
 from ..core.errors import CaseError
+from ..physics import compressible as comp
 from ..physics import correlations as bl
-from ..physics.fluids import fluid_state
+from ..physics import transition as tr
+from ..physics.fluids import fluid_state, sound_properties
+from ..physics.treatment import TREATMENTS
+from ..physics.wall import WallQuantities, first_cell_height, wall_quantities, y_plus
+from . import sizing
 from .layout import Block, Patch
 from .spacing import capped_geometric, geometric_nodes, resample, solve_geometric, two_sided
 
@@ -35,8 +40,19 @@ class FlowState:
     density_given: bool
     length: float
     reynolds: float
-    regime: str
-    correlation: str
+    regime: str  # laminar, turbulent or transitional
+    correlation: str  # laminar: blasius; otherwise the turbulent law
+    transition_re: float | None = None  # Re_x at transition (transitional)
+    mach: float | None = None  # None or 0: incompressible sizing
+    temperature: float = 288.15  # free-stream static temperature [K]
+    wall_temperature: float | None = None  # None: adiabatic (compressible only)
+    gamma: float = comp.AIR_GAMMA
+    prandtl: float = comp.AIR_PRANDTL
+    mach_estimate: float | None = None  # U / a from the fluid, when known
+
+    def wall(self, x: np.ndarray | float) -> WallQuantities:
+        """Wall quantities at the stations ``x`` [m] (meshgen.physics.wall)."""
+        return wall_quantities(x, sizing.boundary_layer_flow(self))
 
 
 @dataclass(frozen=True, eq=False)
@@ -55,7 +71,9 @@ class Plan:
     @property
     def warnings(self) -> tuple[str, ...]:
         """Warnings of the case and of this plan's own resolution (per family level)."""
-        return self.setup_warnings + resolution_warnings(self.y, self.delta99_end)
+        _, yp = self.y_plus_along_plate()
+        return (self.setup_warnings + resolution_warnings(self.y, self.delta99_end)
+                + tuple(sizing.physics_warnings(self.case, self.flow, float(yp.min()), float(yp.max()))))
 
     @property
     def dim(self) -> int:
@@ -111,16 +129,16 @@ class Plan:
         return self.x[p.i0 : p.i1 + 1]
 
     def y_plus_along_plate(self) -> tuple[np.ndarray, np.ndarray]:
-        """x [m] (x > 0) and the first-cell y+ the correlation estimates there."""
+        """x [m] (x > 0) and the estimated first-cell y+ there (at the node or the cell
+        centre, as wall.y_plus_at says)."""
         xs = self.plate_nodes()[1:]
-        cf = bl.skin_friction(bl.reynolds_x(xs, self.flow.velocity, self.flow.nu), self.flow.correlation)
-        return xs, bl.y_plus(self.first_cell_height, self.flow.velocity, self.flow.nu, cf)
+        return xs, y_plus(self.first_cell_height, self.flow.wall(xs), self.case.wall.y_plus_at == "centre")
 
     def cells_in_delta99(self, stations: tuple[float, ...] = BL_STATIONS) -> dict[str, int]:
         """Wall-normal cells whose top lies inside delta99(x) at each station x/L."""
         f = self.flow
         xs = np.asarray(stations) * f.length
-        d = bl.delta99(xs, bl.reynolds_x(xs, f.velocity, f.nu), f.regime)
+        d = f.wall(xs).delta99
         counts = np.searchsorted(self.y, d, side="right") - 1
         return {f"{s:g}": int(c) for s, c in zip(stations, counts)}
 
@@ -133,6 +151,8 @@ class Plan:
         f = self.flow
         xs, yp = self.y_plus_along_plate()
         corr = bl.CORRELATIONS[f.correlation]
+        w = self.case.wall
+        ref = f.wall(np.array([w.reference_station * f.length]))
         return {
             "case": self.case.name,
             "level": self.level,
@@ -148,8 +168,19 @@ class Plan:
             "domain_height": self.domain_height,
             "first_cell_height": self.first_cell_height,
             "growth_ratio": self.growth_ratio,
-            "y_plus_target": self.case.wall.y_plus if self.case.wall.first_cell_height is None else None,
-            "reference_station": self.case.wall.reference_station,
+            "y_plus_target": sizing.y_plus_target(w) if w.first_cell_height is None else None,
+            "reference_station": w.reference_station,
+            "wall_treatment": w.treatment,
+            "y_plus_at": w.y_plus_at,
+            "y_plus_band": list(TREATMENTS[w.treatment].band),
+            "transition_x": None if f.regime != "transitional" else float(f.transition_re * f.nu / f.velocity),
+            "transition_reynolds": f.transition_re,
+            "mach": f.mach,
+            "mach_estimate": f.mach_estimate,
+            "temperature": f.temperature,
+            "wall_at_reference": {"T_w": float(ref.t_w[0]), "rho_w": float(ref.rho_w[0]), "nu_w": float(ref.nu_w[0]),
+                                  "u_tau": float(ref.u_tau[0]), "cf": float(ref.cf[0])},
+            "assumptions": sizing.assumptions(self.case, f),
             "nodes": {"x": int(self.x.size), "y": int(self.y.size),
                       "z": None if self.z is None else int(self.z.size)},
             "cells": self.cell_count,
@@ -172,12 +203,20 @@ def resolve_flow(case: Case) -> tuple[FlowState, list[str]]:
     f = case.flow
     density, density_given = f.density, f.density is not None
     nu = f.nu
+    sound = None
     if f.fluid is not None:
         state = fluid_state(f.fluid, f.temperature, f.pressure)
         nu = state.nu
         if density is None:
             density, density_given = state.density, True
-    if f.reynolds is not None:
+        sound = sound_properties(f.fluid, f.temperature, f.pressure)
+    if f.mach is not None and sound is not None:
+        if f.velocity is not None or f.reynolds is not None:
+            raise CaseError("flow: flow.mach with flow.fluid fixes the velocity (M times the speed of sound); "
+                            "drop flow.velocity and flow.reynolds, or drop flow.fluid")
+        velocity = f.mach * sound[0]
+        re = velocity * f.length / nu
+    elif f.reynolds is not None:
         re = f.reynolds
         if f.velocity is not None:
             velocity = f.velocity
@@ -190,24 +229,35 @@ def resolve_flow(case: Case) -> tuple[FlowState, list[str]]:
     else:
         velocity = f.velocity
         re = velocity * f.length / nu
-    regime, warnings = bl.regime_for(re, f.regime)
-    if regime == "turbulent" and re < bl.TURBULENT_MIN_RE:
+    regime, warnings = (f.regime, []) if f.regime == "transitional" else bl.regime_for(re, f.regime)
+    if regime != "laminar" and re < bl.TURBULENT_MIN_RE:
         raise CaseError(
             f"flow.regime: turbulent at Re_L = {re:.3g}; the turbulent correlations need "
             f"Re_L >= {bl.TURBULENT_MIN_RE:.0e} (use laminar or auto)"
         )
-    corr = f.correlation or bl.DEFAULT_CORRELATION[regime]
-    if bl.CORRELATIONS[corr].regime != regime:
+    law = "turbulent" if regime == "transitional" else regime
+    corr = f.correlation or bl.DEFAULT_CORRELATION[law]
+    if bl.CORRELATIONS[corr].regime != law:
         raise CaseError(
             f"flow.correlation: {corr!r} is a {bl.CORRELATIONS[corr].regime} correlation but the "
             f"regime is {regime}; valid for {regime}: "
-            + ", ".join(c.name for c in bl.CORRELATIONS.values() if c.regime == regime)
+            + ", ".join(c.name for c in bl.CORRELATIONS.values() if c.regime == law)
         )
     _, hi = bl.CORRELATIONS[corr].re_range
     if re > hi:
         warnings.append(f"Re_L = {re:.3g} is above the stated range of the {corr} correlation (up to {hi:.0e})")
+    re_tr = None
+    if regime == "transitional":
+        re_tr = (f.transition_reynolds if f.transition_onset == "reynolds"
+                 else float(tr.transition_re_from_intensity(f.turbulence_intensity, f.transition_onset)))
+        if re_tr >= re:
+            warnings.append(f"transition at Re_x = {re_tr:.3g} lies beyond the plate end (Re_L = {re:.3g}): "
+                            "the whole plate is laminar")
+    gamma, prandtl = (sound[1], sound[2]) if sound is not None else (comp.AIR_GAMMA, comp.AIR_PRANDTL)
+    mach_estimate = f.mach if f.mach is not None else (velocity / sound[0] if sound is not None else None)
     return (
-        FlowState(velocity, nu, 1.0 if density is None else density, density_given, f.length, re, regime, corr),
+        FlowState(velocity, nu, 1.0 if density is None else density, density_given, f.length, re, regime, corr,
+                  re_tr, f.mach, f.temperature, case.wall.temperature, gamma, prandtl, mach_estimate),
         warnings,
     )
 
@@ -218,9 +268,8 @@ def wall_normal_nodes(case: Case, flow: FlowState, height: float, delta_end: flo
     if w.first_cell_height is not None:
         first = w.first_cell_height
     else:
-        x_ref = w.reference_station * flow.length
-        cf = bl.skin_friction(bl.reynolds_x(x_ref, flow.velocity, flow.nu), flow.correlation)
-        first = float(bl.wall_spacing(w.y_plus, flow.velocity, flow.nu, cf))
+        wq = flow.wall(np.array([w.reference_station * flow.length]))
+        first = float(first_cell_height(sizing.y_plus_target(w), wq, w.y_plus_at == "centre")[0])
     if first >= height:
         raise CaseError(
             f"wall: first-cell height {first:.4g} m is not smaller than the domain height "
@@ -302,7 +351,7 @@ def _check_cell_limit(case: Case, cells: int) -> None:
 def make_plan(case: Case) -> Plan:
     flow, warnings = resolve_flow(case)
     xl = flow.length
-    delta_end = float(bl.delta99(xl, flow.reynolds, flow.regime))
+    delta_end = float(flow.wall(np.array([xl])).delta99[0])
     height = case.domain.height_factor * delta_end
     # Estimate the counts before allocating anything big.
     x, blocks = streamwise_nodes(case, xl)

@@ -15,6 +15,8 @@ U/L < omega < 10 U/L and 1e-5 U^2/Re_L < k < 0.1 U^2/Re_L.
 
 from __future__ import annotations
 
+import numpy as np
+
 from ..planning.plan import Plan
 
 C_MU = 0.09
@@ -71,6 +73,25 @@ def turbulence_values(plan: Plan) -> dict:
     }
 
 
+def wall_condition(plan: Plan) -> dict:
+    """The wall's thermal condition, treatment and the layer the mesh was sized for."""
+    f, w = plan.flow, plan.case.wall
+    ref = f.wall(np.array([w.reference_station * f.length]))
+    thermal = ("adiabatic (zero heat flux)" if w.temperature is None or not f.mach
+               else f"isothermal, T_w = {w.temperature:g} K")
+    return {
+        "thermal": thermal if f.mach else "not needed (incompressible sizing)",
+        "treatment": w.treatment,
+        "regime": f.regime,
+        "transition_x": None if f.transition_re is None else f.transition_re * f.nu / f.velocity,
+        "mach": f.mach,
+        "T_w": float(ref.t_w[0]), "rho_w": float(ref.rho_w[0]), "nu_w": float(ref.nu_w[0]),
+        "u_tau": float(ref.u_tau[0]),
+        "note": ("a transitional sizing needs a transition model or a laminar zone up to transition_x in the "
+                 "solver; a fully turbulent RANS run does not reproduce it") if f.regime == "transitional" else None,
+    }
+
+
 def bc_sheet(plan: Plan) -> dict:
     """The sheet as plain JSON types: free stream, turbulence, one entry per group."""
     f = plan.flow
@@ -85,6 +106,7 @@ def bc_sheet(plan: Plan) -> dict:
             "rho_note": None if f.density_given else "no fluid or density given: rho = 1 (kinematic form)",
         },
         "turbulence": turbulence_values(plan),
+        "wall": wall_condition(plan),
         "groups": [{"name": n, "role": r, "condition": ROLE_CONDITIONS[r]} for n, r in groups],
         "cells": plan.case.names.fluid,
     }
@@ -112,6 +134,13 @@ def bc_markdown(sheet: dict) -> str:
         "|---|---|---|",
     ]
     lines += [f"| {g['name']} | {g['role']} | {g['condition']} |" for g in sheet["groups"]]
+    wc = sheet["wall"]
+    lines += ["", (f"Wall: {wc['treatment']} treatment, {wc['regime']} layer"
+                   + (f" (transition at x = {wc['transition_x']:.4g} m)" if wc["transition_x"] is not None else "")
+                   + f"; thermal condition: {wc['thermal']}; at the reference station T_w = {wc['T_w']:.5g} K, "
+                   f"rho_w = {wc['rho_w']:.5g} kg/m3, nu_w = {wc['nu_w']:.5g} m2/s, u_tau = {wc['u_tau']:.5g} m/s.")]
+    if wc["note"]:
+        lines.append(f"- note: {wc['note']}")
     rec = t["recommended"]
     lines += [
         "",

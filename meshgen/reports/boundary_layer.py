@@ -14,6 +14,7 @@ from ..physics.correlations import (
     skin_friction,
     y_plus,
 )
+from ..physics.wall import y_plus as wall_y_plus
 from .structure import recover_structure
 
 # --- boundary-layer resolution ---------------------------------------------------------
@@ -57,7 +58,8 @@ def boundary_layer_report(mesh: Mesh, wall_group: str, velocity: float, nu: floa
                           correlation: str | None, y_plus_target: float,
                           stations: tuple[float, ...] = (0.1, 0.25, 0.5, 0.75, 1.0), *,
                           plate_length: float | None = None, x_ref: float | None = None,
-                          band: tuple[float, float] | None = None) -> dict:
+                          band: tuple[float, float] | None = None, wall=None, at_centre: bool = False,
+                          band_rule: str | None = None) -> dict:
     """Boundary-layer resolution of a structured flat-plate mesh, as plain JSON-ready data.
 
     ``velocity`` [m/s], ``nu`` [m2/s], ``regime`` 'laminar' or 'turbulent', ``correlation``
@@ -75,6 +77,11 @@ def boundary_layer_report(mesh: Mesh, wall_group: str, velocity: float, nu: floa
     The y+ band is ``band`` or Y_PLUS_BAND times the target; fractions are of the plate
     length (each wall node weighted by half its two neighbouring intervals).
     Unstructured meshes get {'omitted': reason}.
+
+    ``wall`` (a function x [m] -> ``meshgen.physics.wall.WallQuantities``, e.g.
+    ``FlowState.wall``) replaces the single-correlation estimate: transitional and
+    compressible layers then give Cf, u_tau, nu_w and delta99; ``at_centre`` measures y+ at
+    the first cell centre (half the first-cell height) instead of the first node.
     """
     correlation = correlation or DEFAULT_CORRELATION.get(regime, "")
     problems = _check_flow(mesh, wall_group, velocity, nu, regime, correlation, y_plus_target, stations, band)
@@ -96,11 +103,19 @@ def boundary_layer_report(mesh: Mesh, wall_group: str, velocity: float, nu: floa
     lo, hi = (band if band is not None else (Y_PLUS_BAND[0] * y_plus_target, Y_PLUS_BAND[1] * y_plus_target))
     notes: list[str] = []
 
+    def _estimate(xs: np.ndarray, h: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """(delta99, y+) at stations xs > 0 with first-cell heights h."""
+        if wall is not None:
+            wq = wall(xs)
+            return wq.delta99, wall_y_plus(h, wq, at_centre)
+        re = reynolds_x(xs, velocity, nu)
+        yp = y_plus(h, velocity, nu, skin_friction(re, correlation)) * (0.5 if at_centre else 1.0)
+        return delta99(xs, re, regime), yp
+
     def at(xs: float) -> dict:
         col = int(np.argmin(np.abs(x - xs)))
         re = float(reynolds_x(x[col], velocity, nu))
-        d99 = float(delta99(x[col], re, regime)) if re > 0 else 0.0
-        yp = float(y_plus(h1[col], velocity, nu, skin_friction(re, correlation))) if re > 0 else None
+        d99, yp = (float(v[0]) for v in _estimate(x[col : col + 1], h1[col : col + 1])) if re > 0 else (0.0, None)
         return {"x_m": float(x[col]), "re_x": re, "delta99_m": d99, "first_cell_height_m": float(h1[col]),
                 "y_plus": yp, "cells_in_delta99": int(np.count_nonzero(height[1:, col] <= d99)), "_col": col}
 
@@ -118,7 +133,7 @@ def boundary_layer_report(mesh: Mesh, wall_group: str, velocity: float, nu: floa
 
     on = (x > 0) & (x <= length * (1 + 1e-12))
     re = reynolds_x(x[on], velocity, nu)
-    yp = y_plus(h1[on], velocity, nu, skin_friction(re, correlation))
+    yp = _estimate(x[on], h1[on])[1]
     edges = np.concatenate([[x[0]], 0.5 * (x[1:] + x[:-1]), [x[-1]]])
     weight = np.diff(edges)[on]
     total = float(weight.sum())
@@ -145,8 +160,9 @@ def boundary_layer_report(mesh: Mesh, wall_group: str, velocity: float, nu: floa
             "x_m": [float(v) for v in x[on]], "y_plus": [float(v) for v in yp],
             "min": float(yp.min()), "mean": float(np.sum(yp * weight) / total), "max": float(yp.max()),
             "band": [float(lo), float(hi)],
-            "band_rule": "given" if band is not None
-                         else f"{Y_PLUS_BAND[0]} to {Y_PLUS_BAND[1]} x target, meshgen's choice",
+            "band_rule": band_rule or ("given" if band is not None
+                                       else f"{Y_PLUS_BAND[0]} to {Y_PLUS_BAND[1]} x target, meshgen's choice"),
+            "measured_at": "first cell centre" if at_centre else "first node",
             "fraction_below": float(weight[yp < lo].sum() / total),
             "fraction_in_band": float(weight[(yp >= lo) & (yp <= hi)].sum() / total),
             "fraction_above": float(weight[yp > hi].sum() / total),

@@ -14,6 +14,10 @@ def _fmt(v: float) -> str:
     return f"{v:.4g}"
 
 
+def _wall_state(w: dict) -> str:
+    return f"{_fmt(w['T_w'])} K, {_fmt(w['rho_w'])} kg/m3, {_fmt(w['nu_w'])} m2/s"
+
+
 def plan_table(d: dict) -> str:
     """The sizing table of ``Plan.to_dict()`` as aligned text."""
     corr = d["correlation"]
@@ -21,9 +25,18 @@ def plan_table(d: dict) -> str:
         ("case", d["case"]),
         ("Reynolds number Re_L", f"{d['reynolds']:.4g}"),
         ("regime", d["regime"]),
+        *([("transition at x", f"{_fmt(d['transition_x'])} m (Re_x = {d['transition_reynolds']:.4g})")]
+          if d.get("transition_x") is not None else []),
         ("skin-friction correlation", f"{corr['name']}: {corr['formula']}"),
         ("free stream U, nu", f"{_fmt(d['velocity'])} m/s, {_fmt(d['nu'])} m2/s"),
         ("plate length L", f"{_fmt(d['length'])} m"),
+        ("Mach number", "incompressible sizing" + (f" (estimated M = {d['mach_estimate']:.3g})"
+                                                   if d.get("mach_estimate") is not None else "")
+         if not d.get("mach") else f"{d['mach']:.4g}, T = {_fmt(d['temperature'])} K"),
+        ("wall T_w, rho_w, nu_w at x_ref", _wall_state(d["wall_at_reference"])),
+        ("wall treatment", f"{d['wall_treatment']} (y+ band {_fmt(d['y_plus_band'][0])} to {_fmt(d['y_plus_band'][1])})"),
+        ("y+ measured at", "first node (y = first-cell height)" if d["y_plus_at"] == "node"
+         else "first cell centre (y = half the first-cell height)"),
         ("delta99 at the plate end", f"{_fmt(d['delta99_end'])} m"),
         ("domain height H", f"{_fmt(d['domain_height'])} m"),
         ("domain x range", f"{_fmt(d['extent']['x'][0])} to {_fmt(d['extent']['x'][1])} m"),
@@ -46,6 +59,7 @@ def plan_table(d: dict) -> str:
     rows.append(("boundary groups", ", ".join(d["groups"])))
     width = max(len(k) for k, _ in rows)
     lines = [f"{k.ljust(width)}  {v}" for k, v in rows]
+    lines += [f"assumes: {a}" for a in d.get("assumptions", [])]
     for w in d.get("warnings", []):
         lines.append(f"warning: {w}")
     return "\n".join(lines)

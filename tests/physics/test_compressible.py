@@ -3,8 +3,8 @@
 import numpy as np
 import pytest
 
-from meshgen import boundary_layer as bl
 from meshgen.physics import compressible as comp
+from meshgen.physics import correlations as bl
 from meshgen.physics import transition as tr
 from meshgen.physics.wall import BoundaryLayerFlow, first_cell_height, wall_quantities, y_plus
 

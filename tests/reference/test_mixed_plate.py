@@ -12,7 +12,7 @@ import math
 import numpy as np
 import pytest
 
-from meshgen import boundary_layer as bl
+from meshgen.physics import correlations as bl
 from meshgen.physics import transition as tr
 from meshgen.physics.wall import BoundaryLayerFlow, wall_quantities
 
