@@ -112,14 +112,19 @@ class Streamwise(Section):
     max_spacing: float = Field(0.02, gt=0, le=1.0, description="cap on the plate [L]")
     far_spacing: float = Field(0.1, gt=0, le=10.0, description="cap in the upstream and wake blocks [L]")
     cells: int | None = Field(None, ge=2, le=1_000_000, description="plate cells (solves the plate's ratio)")
+    upstream_cells: int | None = Field(None, ge=1, le=1_000_000,
+                                       description="upstream block cells (solves the block's ratio)")
+    wake_cells: int | None = Field(None, ge=1, le=1_000_000, description="wake block cells (solves the block's ratio)")
 
     @model_validator(mode="after")
     def _two_of_three(self) -> Streamwise:
         if self.cells is not None and "growth_ratio" in self.model_fields_set:
             raise ValueError(
-                "streamwise: leading/trailing-edge spacing, growth_ratio and cells over-determine "
-                "the plate distribution; with streamwise.cells the plate's ratio is solved "
-                "(growth_ratio then applies to the upstream and wake blocks only if given without cells)"
+                "streamwise: give streamwise.cells or streamwise.growth_ratio, not both: with "
+                "streamwise.cells the plate's growth is solved from the leading- and trailing-edge "
+                "spacings, and the upstream and wake blocks grow at the default ratio "
+                f"{Streamwise.model_fields['growth_ratio'].default} up to streamwise.far_spacing; "
+                "set streamwise.upstream_cells and streamwise.wake_cells to fix their counts instead"
             )
         return self
 

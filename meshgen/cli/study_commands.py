@@ -50,6 +50,44 @@ def _run_args(p: argparse.ArgumentParser) -> None:
                    help="build on a Dask cluster (e.g. tcp://host:8786) that shares the output folder")
 
 
+def _family_args(p: argparse.ArgumentParser) -> None:
+    from ..study.judge import Floors
+
+    f = Floors()
+    p.add_argument("--keep-counts", action="store_true",
+                   help="keep the case's cell counts exactly (default: round them up so the levels nest)")
+    p.add_argument("--dry-run", action="store_true", help="judge every level, print the table, write nothing")
+    p.add_argument("--min-bl-cells", type=int, default=f.min_cells_delta99, metavar="N",
+                   help=f"floor: wall-normal cells across delta99 at x/L = 0.5 (default {f.min_cells_delta99})")
+    p.add_argument("--max-growth", type=float, default=f.max_growth, metavar="G",
+                   help=f"ceiling: growth ratio between neighbouring cells (default {f.max_growth:g})")
+    p.add_argument("--y-plus-band", metavar="LO,HI",
+                   help="band of the first-cell y+ at the reference station (default: the wall treatment's)")
+
+
+def _floors(args, case):
+    """The floors from the options; the y+ band defaults to the case's wall treatment."""
+    from ..study.judge import Floors, treatment_band
+
+    problems = []
+    if args.min_bl_cells < 1:
+        problems.append(f"--min-bl-cells {args.min_bl_cells}: a whole number of cells, 1 or more")
+    if not args.max_growth >= 1.0:  # also refuses NaN
+        problems.append(f"--max-growth {args.max_growth}: a ratio of 1 or more, e.g. 1.3")
+    band = treatment_band(case)
+    if args.y_plus_band is not None:
+        try:
+            lo, hi = (float(v) for v in args.y_plus_band.split(","))
+            if not 0 <= lo < hi:
+                raise ValueError
+            band = (lo, hi)
+        except ValueError:
+            problems.append(f"--y-plus-band {args.y_plus_band}: two numbers LO,HI with 0 <= LO < HI, e.g. 30,300")
+    if problems:
+        raise InputError(problems)
+    return Floors(args.min_bl_cells, args.max_growth, band)
+
+
 def add_commands(sub) -> dict:
     """Add the ``family`` and ``sweep`` subparsers to ``sub``; return their commands by name."""
 
@@ -58,6 +96,7 @@ def add_commands(sub) -> dict:
     sf.add_argument("--levels", type=int, required=True, metavar="N", help="number of levels (2 or more)")
     sf.add_argument("--ratio", type=float, required=True, metavar="R",
                     help="refinement ratio between levels (above 1.1; Celik et al. 2008 recommend > 1.3)")
+    _family_args(sf)
     _run_args(sf)
 
     ss = sub.add_parser("sweep", help="build the case with the outer boundaries moved (domain sweep)")
@@ -115,11 +154,35 @@ def finish_report(report: RunReport, kind: str) -> int:
 
 
 def cmd_family(args) -> int:
+    from ..case import load_case
     from ..study.family import family_study
+    from ..study.judge import judgement_table
 
+    try:
+        case = load_case(args.case, args.overrides)
+    except InputError:
+        case = None  # family_study lists the case's problems with every other one
+    floors = _floors(args, case)
+    extra = ["--levels", str(args.levels), "--ratio", repr(args.ratio)]
+    extra += ["--keep-counts"] if args.keep_counts else []
     study, warnings = family_study(args.case, args.overrides, args.levels, args.ratio, args.formats,
-                                   _arguments("family", args, ["--levels", str(args.levels),
-                                                               "--ratio", repr(args.ratio)]))
+                                   _arguments("family", args, extra), keep_counts=args.keep_counts,
+                                   floors=floors)
+    nesting = study.header["nesting"]
+    if nesting["rounded"]:
+        print("family: the finest level's counts rounded up so that the levels nest "
+              "(--keep-counts keeps the case's):")
+        for name, (old, new) in nesting["rounded"].items():
+            print(f"  {name}: {old} -> {new}")
+    for note in nesting["notes"]:
+        print(f"family: {note}")
+    print(judgement_table([m.name for m in study.members], [m.record["judgement"] for m in study.members],
+                          floors))
+    if args.dry_run:
+        for w in warnings:
+            print(f"warning: {w}", file=sys.stderr)
+        print("family: dry run, nothing written")
+        return EXIT_OK
     return _run(study, warnings, args, study.members[0].plan.case.name)
 
 

@@ -4,13 +4,12 @@
 boundary layer, and builds the 1-D node arrays: one wall-normal array ``y`` shared by all
 blocks (so the blocks conform) and one streamwise array ``x`` through the upstream, plate
 and wake blocks, with matching spacing at the block interfaces. Coarser members of a
-refinement family sample the same mappings (``coarsen``).
+refinement family sample the same mappings (refine.py).
 """
 
 from __future__ import annotations
 
-import math
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -24,7 +23,7 @@ from ..physics.treatment import TREATMENTS
 from ..physics.wall import WallQuantities, first_cell_height, wall_quantities, y_plus
 from . import sizing
 from .layout import Block, Patch
-from .spacing import capped_geometric, geometric_nodes, resample, solve_geometric, two_sided
+from .spacing import capped_geometric, geometric_nodes, solve_geometric, two_sided
 
 #: Stations x/L where the plan counts cells inside delta99.
 BL_STATIONS = (0.1, 0.5, 1.0)
@@ -315,6 +314,35 @@ def plate_with_count(length: float, dx_le: float, dx_te: float, cells: int) -> n
     return nodes
 
 
+def block_with_count(length: float, first: float, cells: int, key: str) -> np.ndarray:
+    """``cells`` cells over ``length`` growing from ``first`` by one solved ratio (at most 2)."""
+    if first * cells > length * (1 + 1e-12):
+        raise CaseError(
+            f"{key} = {cells}: {cells} cells of at least {first:.4g} m (the spacing matched at the "
+            f"plate edge) do not fit the block's {length:.4g} m; lower {key}"
+        )
+    first, ratio, _ = solve_geometric(length, first=first, count=cells)
+    if ratio > 2.0:
+        raise CaseError(
+            f"{key} = {cells}: from {first:.4g} m at the plate edge this needs a growth ratio of "
+            f"{ratio:.3g} (valid up to 2); raise {key}"
+        )
+    nodes = geometric_nodes(first, ratio, cells)
+    nodes[-1] = length
+    return nodes
+
+
+def _outer_block(case: Case, which: str, length: float, first: float) -> np.ndarray:
+    """The upstream or wake block: a given count (ratio solved), else growth up to the cap."""
+    s = case.streamwise
+    cells = s.upstream_cells if which == "upstream" else s.wake_cells
+    key = f"streamwise.{which}_cells"
+    if cells is not None:
+        return block_with_count(length, first, cells, key)
+    domain_key = "domain.upstream" if which == "upstream" else "domain.downstream"
+    return capped_geometric(length, first, s.growth_ratio, s.far_spacing * case.flow.length, domain_key)
+
+
 def streamwise_nodes(case: Case, length: float) -> tuple[np.ndarray, tuple[Block, ...]]:
     """x nodes through the upstream, plate and wake blocks, spacing matched at x = 0 and L."""
     s, d = case.streamwise, case.domain
@@ -323,9 +351,16 @@ def streamwise_nodes(case: Case, length: float) -> tuple[np.ndarray, tuple[Block
         plate = two_sided(length, dx_le, dx_te, s.growth_ratio, s.max_spacing * length, "streamwise")
     else:
         plate = plate_with_count(length, dx_le, dx_te, s.cells)
+    missing = [f"streamwise.{w}_cells = {n} but domain.{k} = 0: there is no {w} block; unset "
+               f"streamwise.{w}_cells or give domain.{k} a length"
+               for w, k, n, extent in (("upstream", "upstream", s.upstream_cells, d.upstream),
+                                       ("wake", "downstream", s.wake_cells, d.downstream))
+               if n is not None and extent == 0]
+    if missing:
+        raise CaseError(missing)
     parts, blocks, start = [], [], 0
     if d.upstream > 0:
-        up = capped_geometric(d.upstream * length, dx_le, s.growth_ratio, s.far_spacing * length, "domain.upstream")
+        up = _outer_block(case, "upstream", d.upstream * length, dx_le)
         parts.append(-up[::-1])
         blocks.append(Block("upstream", 0, up.size - 1))
         start = up.size - 1
@@ -333,7 +368,7 @@ def streamwise_nodes(case: Case, length: float) -> tuple[np.ndarray, tuple[Block
     blocks.append(Block("plate", start, start + plate.size - 1))
     start += plate.size - 1
     if d.downstream > 0:
-        wake = capped_geometric(d.downstream * length, dx_te, s.growth_ratio, s.far_spacing * length, "domain.downstream")
+        wake = _outer_block(case, "wake", d.downstream * length, dx_te)
         parts.append(length + wake[1:])
         blocks.append(Block("wake", start, start + wake.size - 1))
     x = np.concatenate(parts)
@@ -377,33 +412,6 @@ def resolution_warnings(y: np.ndarray, delta_end: float) -> tuple[str, ...]:
     )
 
 
-def _count(cells: int, factor: float, least: int) -> int:
-    """cells / factor rounded half up (not Python's half-to-even), at least ``least``."""
-    return max(least, math.floor(cells / factor + 0.5))
-
-
-def coarsen(plan: Plan, factor: float, level: int) -> Plan:
-    """The plan with every block's cell count divided by ``factor`` (same mappings).
-
-    Each block of ``x`` and the ``y`` and ``z`` arrays are resampled on their own, so block
-    interfaces stay where they are; with an integer factor that divides every count the
-    coarse nodes are exactly a subset of the fine nodes.
-    """
-    parts, blocks, start = [], [], 0
-    for b in plan.blocks:
-        seg = plan.x[b.i0 : b.i1 + 1]
-        n = _count(seg.size - 1, factor, 1)
-        new = resample(seg, n)
-        parts.append(new if not parts else new[1:])
-        blocks.append(Block(b.name, start, start + n))
-        start += n
-    y = resample(plan.y, _count(plan.y.size - 1, factor, 2))
-    z = None
-    if plan.z is not None:
-        z = resample(plan.z, _count(plan.z.size - 1, factor, 1))
-    return replace(plan, x=np.concatenate(parts), y=y, z=z, blocks=tuple(blocks), level=level)
-
-
 def spacing_summary(nodes: np.ndarray) -> dict[str, float]:
     d = np.diff(nodes)
     g = d[1:] / d[:-1] if d.size > 1 else np.ones(1)
@@ -411,4 +419,4 @@ def spacing_summary(nodes: np.ndarray) -> dict[str, float]:
             "max_growth": float(max(g.max(), 1.0 / g.min()))}
 
 
-__all__ = ["FlowState", "Plan", "coarsen", "make_plan", "resolve_flow", "spacing_summary"]
+__all__ = ["FlowState", "Plan", "make_plan", "resolve_flow", "spacing_summary"]

@@ -197,18 +197,44 @@ def _joined_layers(length: float, first_start: float, first_end: float, ratio: f
     return None
 
 
+def _monotone_slopes(nodes: np.ndarray) -> np.ndarray:
+    """dx/dxi at every node of an increasing sequence on unit index steps: the harmonic mean of
+    the neighbouring cell sizes inside, a one-sided three-point estimate at the ends
+    (Fritsch & Butland 1984, the shape-preserving piecewise cubic Hermite interpolant)."""
+    d = np.diff(nodes)
+    if d.size == 1:
+        return np.array([d[0], d[0]])
+    slopes = np.empty(nodes.size)
+    slopes[1:-1] = 2.0 / (1.0 / d[:-1] + 1.0 / d[1:])
+    for end, (a, b) in ((0, (d[0], d[1])), (-1, (d[-1], d[-2]))):
+        s = 0.5 * (3.0 * a - b)
+        slopes[end] = 0.0 if s < 0 else min(s, 3.0 * a)  # stays monotone (Fritsch & Carlson 1980)
+    return slopes
+
+
 def resample(nodes: np.ndarray, count: int) -> np.ndarray:
     """Sample the index-to-position mapping of ``nodes`` with ``count`` cells.
 
-    The mapping is linear between the given nodes, so when ``(nodes.size - 1) / count``
-    is an integer r the result is exactly every r-th node (a nested coarse grid).
+    The mapping is the monotone piecewise cubic through the nodes (``_monotone_slopes``):
+    a geometric distribution sampled at a fractional index step keeps a smooth, nearly
+    constant ratio, where straight lines between the nodes would make the ratio jitter
+    cell to cell. Where a sample falls on a whole index it is that node exactly, so when
+    ``(nodes.size - 1) / count`` is an integer r the result is every r-th node (a nested
+    coarse grid), and two samplings of the same mapping share every node whose index they
+    share (the index of sample k is (k n) / count, rounded once).
     """
     n = nodes.size - 1
-    xi = np.arange(count + 1) * (n / count)
-    out = np.interp(xi, np.arange(n + 1), nodes)
-    if n % count == 0:
-        out = nodes[:: n // count].copy()
-    out[0], out[-1] = nodes[0], nodes[-1]
+    xi = (np.arange(count + 1, dtype=np.float64) * n) / count
+    k = np.minimum(np.floor(xi).astype(np.int64), n - 1)
+    t = xi - k
+    d = np.diff(nodes)[k]
+    slopes = _monotone_slopes(nodes)
+    # cubic Hermite on [k, k + 1] with end slopes m0, m1 (unit index step)
+    m0, m1 = slopes[k], slopes[k + 1]
+    out = nodes[k] + t * (m0 + t * ((3.0 * d - 2.0 * m0 - m1) + t * (m0 + m1 - 2.0 * d)))
+    whole = t == 0.0
+    out[whole] = nodes[k[whole]]
+    out[-1] = nodes[-1]
     return out
 
 

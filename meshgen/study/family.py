@@ -1,12 +1,14 @@
 """Refinement families: the case as given and systematically coarsened copies of it.
 
-Level 0 is the case's own plan; level k is ``meshgen.plan.coarsen(plan, R**k, level=k)``:
-every block's cell count divided by R**k, the same index-to-position mappings resampled,
-so the levels are geometrically similar. With an integer R that divides the counts the
-coarse nodes are exactly every R**k-th fine node; a geometric wall-normal growth g then
-becomes g**(R**k) and the first-cell height the sum of the first R**k fine cells. With a
-non-integer R (e.g. sqrt(2)) the counts are rounded, so the manifest reports the effective
-ratio of each pair from the representative sizes.
+Level k is the case's plan resampled with level k's cell counts (``meshgen.planning.refine``):
+every block's count divided by R^k on the same index-to-position mappings, so the levels
+are geometrically similar. By default the counts are arranged so that the levels nest
+(nesting.py): with an integer R the finest level's counts are rounded up to multiples of
+R^(levels-1) and every coarse node is a fine node; a geometric wall-normal growth g then
+becomes g^(R^k) and the first-cell height the sum of the first R^k fine cells. With
+R = sqrt(2) every second level nests. ``keep_counts`` keeps the case's counts exactly (the
+levels then nest only where the counts divide). The manifest reports the effective ratio
+of each pair from the representative sizes.
 
 Representative size (Celik et al. 2008, "Procedure for Estimation and Reporting of
 Uncertainty Due to Discretization in CFD Applications", J. Fluids Eng. 130(7) 078001,
@@ -15,10 +17,14 @@ eq. 1): h = (area / N)^(1/2) in 2-D and (volume / N)^(1/3) in 3-D, with the area
 one-layer extrusion (``domain.span_cells = 1``) stays one layer on every level and is a
 2-D grid in 3-D cells, so its h is the 2-D one of one layer (``h_dimension`` = 2).
 
+Every level is judged before anything is built (judge.py): the figures and the warnings
+of each level go into its record (``judgement``), and the floors and what the nesting
+changed into the header (``floors``, ``nesting``).
+
 Output: ``DIR/level-0``, ``DIR/level-1``, ... and ``DIR/family.json`` (manifest.py), with
 per level: files and SHA-256, cells, h, ratio to the next coarser level, first-cell
-height, growth ratio at the wall, the estimated y+ range along the plate and the
-wall-normal cells inside delta99.
+height, growth ratio at the wall, the estimated y+ range along the plate, the
+wall-normal cells inside delta99 and the judgement; the header adds ``plate_length`` [m].
 """
 
 from __future__ import annotations
@@ -30,8 +36,11 @@ from .. import __version__
 from ..case import case_to_toml
 from ..core.errors import InputError
 from ..pipeline.build import planned_outputs
-from ..planning.plan import Plan
-from .members import Member, Study, load_checked, member_spec, plan_from_spec
+from ..planning.plan import Plan, make_plan
+from ..planning.refine import block_counts, resample_plan
+from .judge import Floors, level_figures, level_warnings
+from .members import Member, Study, load_checked, member_spec
+from .nesting import family_counts, nesting_note
 
 #: Ratios at or below this are refused: the levels would differ too little to tell apart.
 MIN_RATIO = 1.1
@@ -92,12 +101,15 @@ def _coarse_problems(plan: Plan, fine: Plan) -> list[str]:
     return out
 
 
-def level_records(plans: list[Plan], factors: list[float]) -> list[dict]:
-    """Manifest figures of every level; ``ratio_to_next`` = h(k+1) / h(k), None on the last."""
+def level_records(plans: list[Plan], factors: list[float], floors: Floors | None = None) -> list[dict]:
+    """Manifest figures of every level; ``ratio_to_next`` = h(k+1) / h(k), None on the last;
+    ``judgement``: the judged figures (judge.py) with the level's ``warnings``."""
+    floors = floors or Floors()
     hs = [representative_size(p)[0] for p in plans]
     records = []
     for k, (p, factor, h) in enumerate(zip(plans, factors, hs)):
         d = p.to_dict()
+        ratio = hs[k + 1] / h if k + 1 < len(hs) else None
         records.append({
             "level": k,
             "factor": factor,
@@ -105,63 +117,63 @@ def level_records(plans: list[Plan], factors: list[float]) -> list[dict]:
             "nodes": d["nodes"],
             "cells_per_block": d["cells_per_block"],
             "h": h,
-            "ratio_to_next": hs[k + 1] / h if k + 1 < len(hs) else None,
+            "ratio_to_next": ratio,
             "first_cell_height": p.first_cell_height,
             "growth_ratio": p.growth_ratio,
             "streamwise_first_spacing": d["streamwise_first_spacing"],
             "y_plus_range": d["y_plus_range"],
             "cells_in_delta99": d["cells_in_delta99"],
+            "judgement": level_figures(p, h, ratio),
         })
+    fine = records[0]["judgement"]
+    for k, rec in enumerate(records):
+        rec["judgement"]["warnings"] = level_warnings(level_name(k), rec["judgement"], fine, plans[0], floors)
     return records
 
 
-def nesting_warnings(fine, ratio: float, levels: int) -> list[str]:
-    """With an integer ratio the levels nest only if every count divides by ratio^(levels-1)."""
-    if abs(ratio - round(ratio)) > 1e-12:
-        return []
-    step = round(ratio) ** (levels - 1)
-    counts = {f"{b.name} block": b.i1 - b.i0 for b in fine.blocks}
-    counts["wall-normal"] = fine.y.size - 1
-    if fine.z is not None:
-        counts["spanwise"] = fine.z.size - 1
-    odd = [f"{k} {n}" for k, n in counts.items() if n % step]
-    if not odd:
-        return []
-    message = (
-        f"the coarse levels will not be exact subsets of the fine one: {', '.join(odd)} cells "
-        f"do not divide by {step} (ratio {ratio:g} over {levels} levels); set wall.cells, "
-        "streamwise.cells or span_cells to multiples of it for a nested family"
-    )
-    return [message]
-
-
 def family_study(case_path, overrides: list[str], levels: int, ratio: float,
-                 formats: list[str] | None, arguments: list[str]) -> tuple[Study, list[str]]:
-    """The family to build, checked (InputError lists every problem), and its warnings."""
+                 formats: list[str] | None, arguments: list[str], *, keep_counts: bool = False,
+                 floors: Floors | None = None) -> tuple[Study, list[str]]:
+    """The family to build, checked (InputError lists every problem), and its warnings.
+
+    The header's ``nesting`` says what was rounded ({count name: [case, finest level]}) and
+    which levels nest; every level's record holds its ``judgement``.
+    """
     problems, warnings = _argument_problems(levels, ratio)
     case, fmts = load_checked(case_path, overrides, formats, problems)
+    floors = floors or Floors()
     base = case.model_dump(mode="json", exclude_unset=True)
     names = [f.name for f in fmts]
     factors = [ratio**k for k in range(levels)]
-    specs = [member_spec(base, [], factors[k], k, names) for k in range(levels)]
-    plans = [plan_from_spec(s) for s in specs]
+    case_plan = make_plan(case)
+    fine_counts = block_counts(case_plan)
+    counts, changed = family_counts(fine_counts, ratio, levels, keep_counts)
+    specs = [member_spec(base, [], factors[k], k, names, counts[k]) for k in range(levels)]
+    plans = [resample_plan(case_plan, counts[k], level=k) for k in range(levels)]
     for p in plans[1:]:  # the first level that is too coarse; the coarser ones are too
         problems = _coarse_problems(p, plans[0])
         if problems:
             fit = f"--levels {levels}: at most {p.level} levels fit this case at --ratio {ratio:g}"
             raise InputError([*problems, fit])
-    warnings += nesting_warnings(plans[0], ratio, levels)
+    notes, nest_warnings = nesting_note(ratio, levels, keep_counts, fine_counts)
+    records = level_records(plans, factors, floors)
     outputs = tuple(str(p) for p in planned_outputs(Path(), case.name, fmts))
     members = tuple(
         Member(level_name(k), spec, p, rec, outputs)
-        for k, (spec, rec, p) in enumerate(zip(specs, level_records(plans, factors), plans))
+        for k, (spec, rec, p) in enumerate(zip(specs, records, plans))
     )
     header = {
         "ratio": ratio,
         "h_dimension": representative_size(plans[0])[1],
+        "plate_length": case_plan.flow.length,
+        "nesting": {"keep_counts": keep_counts, "rounded": {k: list(v) for k, v in changed.items()},
+                    "notes": notes},
+        "floors": floors.to_dict(),
         "case_toml": case_to_toml(case),
         "case_input": base,
         "arguments": arguments,
         "meshgen_version": __version__,
     }
-    return Study("family", "levels", header, members), list(plans[0].warnings) + warnings
+    level_warnings_ = [w for rec in records for w in rec["judgement"]["warnings"]]
+    return (Study("family", "levels", header, members),
+            list(plans[0].warnings) + warnings + nest_warnings + level_warnings_)

@@ -41,19 +41,28 @@ def load_checked(case_path, overrides: list[str], formats: list[str] | None, pro
     return case, fmts
 
 
-def member_spec(case: dict, overrides: list[str], factor: float, level: int, formats: list[str]) -> dict:
-    """Picklable build inputs of one member (see the module docstring)."""
-    return {"case": case, "overrides": list(overrides), "factor": float(factor), "level": int(level),
+def member_spec(case: dict, overrides: list[str], factor: float, level: int, formats: list[str],
+                counts: dict[str, int] | None = None) -> dict:
+    """Picklable build inputs of one member (see the module docstring); ``counts``: the cell
+    counts of a family level (``meshgen.planning.refine.block_counts`` keys)."""
+    spec = {"case": case, "overrides": list(overrides), "factor": float(factor), "level": int(level),
             "formats": list(formats), "meshgen_version": __version__}
+    if counts is not None:
+        spec["counts"] = {k: int(n) for k, n in counts.items()}
+    return spec
 
 
 def plan_from_spec(spec: dict):
-    """The member's Plan: the case with its overrides, coarsened when ``level`` > 0."""
+    """The member's Plan: the case with its overrides, resampled to the spec's ``counts``
+    (a family level), else coarsened by ``factor`` when ``level`` > 0."""
     from ..case import apply_overrides, parse_case
-    from ..planning.plan import coarsen, make_plan
+    from ..planning.plan import make_plan
+    from ..planning.refine import coarsen, resample_plan
 
     case = parse_case(apply_overrides(copy.deepcopy(spec["case"]), spec["overrides"]))
     plan = make_plan(case)
+    if "counts" in spec:
+        return resample_plan(plan, spec["counts"], level=spec["level"])
     return plan if spec["level"] == 0 else coarsen(plan, spec["factor"], level=spec["level"])
 
 

@@ -80,8 +80,8 @@ def _floats(obj):
             yield from _floats(v)
 
 
-def family(overrides, levels, ratio, formats=("msh",)):
-    return family_study(None, overrides, levels, ratio, list(formats), ["family"])
+def family(overrides, levels, ratio, formats=("msh",), keep_counts=False):
+    return family_study(None, overrides, levels, ratio, list(formats), ["family"], keep_counts=keep_counts)
 
 
 @pytest.fixture(scope="module")
@@ -221,7 +221,7 @@ def test_nasa_tmr_five_grid_family_counts(tmp_path):
 
 def test_non_integer_ratio_reports_the_effective_ratio():
     st, warnings = family(SMALL, 3, math.sqrt(2))
-    assert not any("1.3" in w for w in warnings)
+    assert not any("Celik" in w for w in warnings)  # sqrt(2) > 1.3
     recs = [m.record for m in st.members]
     for a, b in itertools.pairwise(recs):
         assert a["ratio_to_next"] == pytest.approx(math.sqrt(a["cells"] / b["cells"]), rel=1e-12)
@@ -247,11 +247,16 @@ def test_ratio_below_1_3_warns():
 
 def test_too_coarse_level_is_refused_with_level_and_count():
     with pytest.raises(InputError) as exc:
-        family(SMALL, 5, 2.0)
+        family(SMALL, 5, 2.0, keep_counts=True)
     text = "\n".join(exc.value.problems)
     # level 4 divides by 16: 20 upstream cells round to 1, 48 wall-normal cells to 3
     assert "level 4" in text and "upstream block with 1 streamwise" in text and "3 wall-normal" in text
     assert "at most 4 levels" in text
+    # nested (the default): 20 upstream cells become 32, so 2 on level 4; 48 still gives 3
+    with pytest.raises(InputError) as exc:
+        family(SMALL, 5, 2.0)
+    text = "\n".join(exc.value.problems)
+    assert "3 wall-normal" in text and "upstream" not in text and "at most 4 levels" in text
     # level 3 (factor 8) still fits: 3 + 9 + 3 streamwise cells (20/8 = 2.5 rounds half up, 72/8 = 9) over 6
     assert family(SMALL, 4, 2.0)[0].members[-1].plan.cell_count == (3 + 9 + 3) * 6
 
@@ -287,7 +292,8 @@ def test_manifest_is_read_by_the_gci_reader(small_family):
 
 def test_coarse_levels_carry_their_own_resolution_warning():
     from meshgen.case import load_case
-    from meshgen.planning.plan import coarsen, make_plan
+    from meshgen.planning.plan import make_plan
+    from meshgen.planning.refine import coarsen
 
     fine = make_plan(load_case(None, ["wall.growth_ratio=1.05"]))
     assert not any("inside delta99" in w for w in fine.warnings)
@@ -296,7 +302,7 @@ def test_coarse_levels_carry_their_own_resolution_warning():
 
 
 def test_coarsened_counts_round_half_up():
-    from meshgen.planning.plan import _count
+    from meshgen.planning.refine import _count
 
     assert _count(20, 8, 1) == 3  # 2.5 -> 3 (Python's round would give 2)
     assert _count(544, 2, 1) == 272
@@ -305,10 +311,11 @@ def test_coarsened_counts_round_half_up():
 def test_a_family_that_will_not_nest_says_so():
     from meshgen.case import load_case
     from meshgen.planning.plan import make_plan
-    from meshgen.study.family import nesting_warnings
+    from meshgen.planning.refine import block_counts
+    from meshgen.study.nesting import nesting_note
 
-    fine = make_plan(load_case(None, SMALL))  # 20 + 72 + 20 by 48 cells
-    assert nesting_warnings(fine, 2.0, 3) == []  # every count divides by 4
-    text = " ".join(nesting_warnings(fine, 2.0, 5))  # 16 divides 48 but not 20 or 72
-    assert "upstream block 20" in text and "plate block 72" in text and "wall-normal" not in text
-    assert nesting_warnings(fine, 1.5, 3) == []  # non-integer ratios never nest
+    fine = block_counts(make_plan(load_case(None, SMALL)))  # 20 + 72 + 20 by 48 cells
+    assert nesting_note(2.0, 3, True, fine)[1] == []  # every count divides by 4
+    text = " ".join(nesting_note(2.0, 5, True, fine)[1])  # 16 divides 48 but not 20 or 72
+    assert "upstream 20" in text and "plate 72" in text and "wall-normal" not in text
+    assert "no level nests" in " ".join(nesting_note(1.5, 3, False, fine)[1])
