@@ -23,7 +23,8 @@ from ..physics.treatment import TREATMENTS
 from ..physics.wall import WallQuantities, first_cell_height, wall_quantities, y_plus
 from . import sizing
 from .layout import Block, Patch
-from .spacing import capped_geometric, geometric_nodes, solve_geometric, two_sided
+from .spacing import capped_geometric, geometric_nodes, solve_geometric
+from .streamwise import streamwise_nodes
 
 #: Stations x/L where the plan counts cells inside delta99.
 BL_STATIONS = (0.1, 0.5, 1.0)
@@ -289,90 +290,6 @@ def wall_normal_nodes(case: Case, flow: FlowState, height: float, delta_end: flo
     nodes = geometric_nodes(first, ratio, count)
     nodes[-1] = height
     return nodes
-
-
-def plate_with_count(length: float, dx_le: float, dx_te: float, cells: int) -> np.ndarray:
-    """``cells`` plate cells: two geometric layers from the edges meeting at mid-plate,
-    each with its ratio solved from its first spacing and its half of the count."""
-    left_n = cells // 2
-    right_n = cells - left_n
-    half = 0.5 * length
-    parts = []
-    for first, n in ((dx_le, left_n), (dx_te, right_n)):
-        if first * n > half * (1 + 1e-12):
-            raise CaseError(
-                f"streamwise.cells = {cells}: {n} cells of at least {first:.4g} m do not fit half "
-                f"the plate ({half:.4g} m); lower the edge spacings or streamwise.cells"
-            )
-        f, g, _ = solve_geometric(half, first=first, count=n)
-        nodes = geometric_nodes(f, g, n)
-        nodes[-1] = half
-        parts.append(nodes)
-    left, right = parts
-    nodes = np.concatenate([left, length - right[::-1][1:]])
-    nodes[-1] = length
-    return nodes
-
-
-def block_with_count(length: float, first: float, cells: int, key: str) -> np.ndarray:
-    """``cells`` cells over ``length`` growing from ``first`` by one solved ratio (at most 2)."""
-    if first * cells > length * (1 + 1e-12):
-        raise CaseError(
-            f"{key} = {cells}: {cells} cells of at least {first:.4g} m (the spacing matched at the "
-            f"plate edge) do not fit the block's {length:.4g} m; lower {key}"
-        )
-    first, ratio, _ = solve_geometric(length, first=first, count=cells)
-    if ratio > 2.0:
-        raise CaseError(
-            f"{key} = {cells}: from {first:.4g} m at the plate edge this needs a growth ratio of "
-            f"{ratio:.3g} (valid up to 2); raise {key}"
-        )
-    nodes = geometric_nodes(first, ratio, cells)
-    nodes[-1] = length
-    return nodes
-
-
-def _outer_block(case: Case, which: str, length: float, first: float) -> np.ndarray:
-    """The upstream or wake block: a given count (ratio solved), else growth up to the cap."""
-    s = case.streamwise
-    cells = s.upstream_cells if which == "upstream" else s.wake_cells
-    key = f"streamwise.{which}_cells"
-    if cells is not None:
-        return block_with_count(length, first, cells, key)
-    domain_key = "domain.upstream" if which == "upstream" else "domain.downstream"
-    return capped_geometric(length, first, s.growth_ratio, s.far_spacing * case.flow.length, domain_key)
-
-
-def streamwise_nodes(case: Case, length: float) -> tuple[np.ndarray, tuple[Block, ...]]:
-    """x nodes through the upstream, plate and wake blocks, spacing matched at x = 0 and L."""
-    s, d = case.streamwise, case.domain
-    dx_le, dx_te = s.leading_edge_spacing * length, s.trailing_edge_spacing * length
-    if s.cells is None:
-        plate = two_sided(length, dx_le, dx_te, s.growth_ratio, s.max_spacing * length, "streamwise")
-    else:
-        plate = plate_with_count(length, dx_le, dx_te, s.cells)
-    missing = [f"streamwise.{w}_cells = {n} but domain.{k} = 0: there is no {w} block; unset "
-               f"streamwise.{w}_cells or give domain.{k} a length"
-               for w, k, n, extent in (("upstream", "upstream", s.upstream_cells, d.upstream),
-                                       ("wake", "downstream", s.wake_cells, d.downstream))
-               if n is not None and extent == 0]
-    if missing:
-        raise CaseError(missing)
-    parts, blocks, start = [], [], 0
-    if d.upstream > 0:
-        up = _outer_block(case, "upstream", d.upstream * length, dx_le)
-        parts.append(-up[::-1])
-        blocks.append(Block("upstream", 0, up.size - 1))
-        start = up.size - 1
-    parts.append(plate if not parts else plate[1:])
-    blocks.append(Block("plate", start, start + plate.size - 1))
-    start += plate.size - 1
-    if d.downstream > 0:
-        wake = _outer_block(case, "wake", d.downstream * length, dx_te)
-        parts.append(length + wake[1:])
-        blocks.append(Block("wake", start, start + wake.size - 1))
-    x = np.concatenate(parts)
-    return x, tuple(blocks)
 
 
 def _check_cell_limit(case: Case, cells: int) -> None:

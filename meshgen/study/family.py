@@ -38,7 +38,7 @@ from ..core.errors import InputError
 from ..pipeline.build import planned_outputs
 from ..planning.plan import Plan, make_plan
 from ..planning.refine import block_counts, resample_plan
-from .judge import Floors, level_figures, level_warnings
+from .judge import Floors, level_figures, level_warnings, treatment_band
 from .members import Member, Study, load_checked, member_spec
 from .nesting import family_counts, nesting_note
 
@@ -141,7 +141,7 @@ def family_study(case_path, overrides: list[str], levels: int, ratio: float,
     """
     problems, warnings = _argument_problems(levels, ratio)
     case, fmts = load_checked(case_path, overrides, formats, problems)
-    floors = floors or Floors()
+    floors = floors or Floors(y_plus_band=treatment_band(case))
     base = case.model_dump(mode="json", exclude_unset=True)
     names = [f.name for f in fmts]
     factors = [ratio**k for k in range(levels)]

@@ -26,6 +26,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..physics.treatment import TREATMENTS
 from ..planning.plan import BL_STATIONS, Plan
 
 #: Stations x/L < this are left out of the judged y+ range (singular at the leading edge).
@@ -50,8 +51,11 @@ class Floors:
 
 
 def treatment_band(case) -> tuple[float, float]:
-    """The first-cell y+ band of the case's wall treatment (wall-resolved: 0 to 1)."""
-    return Floors().y_plus_band
+    """The first-cell y+ band of the case's wall treatment (meshgen.physics.treatment);
+    the wall-resolved band when there is no case (it failed to load: that error comes later)."""
+    if case is None:
+        return Floors().y_plus_band
+    return tuple(float(v) for v in TREATMENTS[case.wall.treatment].band)
 
 
 def max_growth(nodes: np.ndarray) -> float:

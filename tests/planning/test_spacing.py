@@ -105,7 +105,7 @@ def test_absurd_counts_are_refused_before_allocation():
 
 
 def test_plate_with_a_given_count():
-    from meshgen.planning.plan import plate_with_count
+    from meshgen.planning.streamwise import plate_with_count
 
     nodes = plate_with_count(2.0, 1e-4, 2e-4, 544)
     d = np.diff(nodes)
