@@ -7,6 +7,7 @@ resolved case that loads back to the same Case.
 
 from __future__ import annotations
 
+import copy
 import difflib
 import math
 import tomllib
@@ -142,13 +143,21 @@ def parse_case(data: dict[str, Any]) -> Case:
         raise CaseError(_format_errors(exc, data)) from None
 
 
-def load_case(path: str | Path | None = None, overrides: list[str] | None = None) -> Case:
-    """Case from a TOML file (or the embedded default when ``path`` is None) + overrides.
+def load_case(path: str | Path | dict | None = None, overrides: list[str] | None = None) -> Case:
+    """Case from a TOML file, a dictionary of the same shape, or the embedded default
+    (``path`` None), with ``--set`` style overrides (``"wall.y_plus=0.5"``) applied.
 
-    A case file holds the whole case: its own values replace the default's; only the
-    embedded default fills fields it leaves out, as the model's own defaults.
+    A case file (or dictionary) holds the whole case: its own values replace the
+    default's; only the model's own defaults fill the fields it leaves out. Raises
+    CaseError listing every problem.
+
+    >>> load_case({"flow": {"reynolds": 1e5}}).flow.length
+    1.0
     """
-    data = _read_toml(DEFAULT_CASE_TOML, "default case") if path is None else read_case_file(path)
+    if isinstance(path, dict):
+        data = copy.deepcopy(path)
+    else:
+        data = _read_toml(DEFAULT_CASE_TOML, "default case") if path is None else read_case_file(path)
     problems: list[str] = []
     for item in overrides or []:  # one at a time, so every bad override is reported
         try:

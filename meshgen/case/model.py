@@ -155,6 +155,10 @@ class Output(Section):
 
 
 class Case(Section):
+    """One validated case: flow, wall, domain, streamwise, names and output sections
+    (lengths in [domain] and [streamwise] in plate lengths L, the rest in SI units);
+    build it with ``load_case`` (TOML file, dictionary or the embedded default)."""
+
     name: str = Field("case", pattern=r"^[A-Za-z0-9_.-]{1,64}$", description="case name (output folder)")
     flow: Flow
     wall: Wall = Wall()

@@ -71,6 +71,10 @@ class Mesh:
     def n_cells(self) -> int:
         return int(self.cells.shape[0])
 
+    def __repr__(self) -> str:
+        return (f"<Mesh {self.dim}-D: {self.n_cells:,} {self.cell_type} cells, {self.n_points:,} nodes, "
+                f"groups {', '.join(self.group_sizes())}>")
+
     def group(self, name: str) -> Group:
         for g in self.groups:
             if g.name == name:

@@ -57,6 +57,10 @@ class FlowState:
 
 @dataclass(frozen=True, eq=False)
 class Plan:
+    """The sizing of one mesh: 1-D node arrays x, y (and z) [m], the blocks, the resolved
+    free stream and the figures derived from them (``to_dict``); ``make_plan(case)``
+    builds it and ``coarsen`` derives a family level."""
+
     case: Case
     flow: FlowState
     x: np.ndarray  # streamwise nodes [m], plate from 0 to L
@@ -135,16 +139,36 @@ class Plan:
         return xs, y_plus(self.first_cell_height, self.flow.wall(xs), self.case.wall.y_plus_at == "centre")
 
     def cells_in_delta99(self, stations: tuple[float, ...] = BL_STATIONS) -> dict[str, int]:
-        """Wall-normal cells whose top lies inside delta99(x) at each station x/L."""
+        """Wall-normal cells whose top lies inside delta99(x) at the plate node nearest
+        each station x/L: the quality report's definition, so both give the same count."""
         f = self.flow
-        xs = np.asarray(stations) * f.length
-        d = f.wall(xs).delta99
+        plate = self.plate_nodes()
+        nearest = plate[np.argmin(np.abs(plate[None, :] - np.asarray(stations)[:, None] * f.length), axis=1)]
+        d = f.wall(nearest).delta99
         counts = np.searchsorted(self.y, d, side="right") - 1
         return {f"{s:g}": int(c) for s, c in zip(stations, counts)}
 
-    def max_aspect_ratio(self) -> float:
+    def max_edge_ratio(self) -> float:
+        """Largest longest-to-shortest edge ratio of a cell (the report's edge ratio; in a
+        tensor grid every dx meets every dy, so the extremes pair up)."""
         dx, dy = np.diff(self.x), np.diff(self.y)
         return float(max(dx.max() / dy.min(), dy.max() / dx.min()))
+
+    def __repr__(self) -> str:
+        return (f"<Plan {self.case.name!r} level {self.level}: {self.dim}-D, {self.cell_count:,} cells, "
+                f"Re_L = {self.flow.reynolds:.4g} ({self.flow.regime}), first cell {self.first_cell_height:.3g} m>")
+
+    def _repr_markdown_(self) -> str:
+        from .summary import plan_markdown
+
+        return f"**{self!r}**\n\n" + plan_markdown(self.to_dict())
+
+    def _repr_html_(self) -> str:
+        import html
+
+        from .summary import plan_html
+
+        return f"<p><b>{html.escape(repr(self))}</b></p>" + plan_html(self.to_dict())
 
     def to_dict(self) -> dict:
         """The figures for people and for plan.json (plain JSON types only)."""
@@ -188,7 +212,7 @@ class Plan:
             "cells_in_delta99": self.cells_in_delta99(),
             "y_plus_range": [float(yp.min()), float(yp.max())],
             "y_plus_range_stations": [float(xs[np.argmin(yp)] / f.length), float(xs[np.argmax(yp)] / f.length)],
-            "max_aspect_ratio": self.max_aspect_ratio(),
+            "max_edge_ratio": self.max_edge_ratio(),
             "streamwise_first_spacing": float(self.plate_nodes()[1] - self.plate_nodes()[0]),
             "extent": {"x": [float(self.x[0]), float(self.x[-1])], "y": [0.0, float(self.y[-1])],
                        "z": None if self.z is None else [0.0, float(self.z[-1])]},
