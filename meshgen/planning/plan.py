@@ -25,6 +25,7 @@ from . import sizing
 from .layout import Block, Patch
 from .spacing import capped_geometric, geometric_nodes, solve_geometric
 from .streamwise import streamwise_nodes
+from .summary import PlanDisplay
 
 #: Stations x/L where the plan counts cells inside delta99.
 BL_STATIONS = (0.1, 0.5, 1.0)
@@ -55,11 +56,10 @@ class FlowState:
         return wall_quantities(x, sizing.boundary_layer_flow(self))
 
 
-@dataclass(frozen=True, eq=False)
-class Plan:
-    """The sizing of one mesh: 1-D node arrays x, y (and z) [m], the blocks, the resolved
-    free stream and the figures derived from them (``to_dict``); ``make_plan(case)``
-    builds it and ``coarsen`` derives a family level."""
+@dataclass(frozen=True, eq=False, repr=False)
+class Plan(PlanDisplay):
+    """The sizing of one mesh: node arrays x, y (z) [m], blocks, free stream and derived
+    figures (``to_dict``); ``make_plan(case)`` builds it, ``coarsen`` a family level."""
 
     case: Case
     flow: FlowState
@@ -139,8 +139,7 @@ class Plan:
         return xs, y_plus(self.first_cell_height, self.flow.wall(xs), self.case.wall.y_plus_at == "centre")
 
     def cells_in_delta99(self, stations: tuple[float, ...] = BL_STATIONS) -> dict[str, int]:
-        """Wall-normal cells whose top lies inside delta99(x) at the plate node nearest
-        each station x/L: the quality report's definition, so both give the same count."""
+        """Wall-normal cells wholly inside delta99 at the plate node nearest each x/L (as the report)."""
         f = self.flow
         plate = self.plate_nodes()
         nearest = plate[np.argmin(np.abs(plate[None, :] - np.asarray(stations)[:, None] * f.length), axis=1)]
@@ -149,26 +148,9 @@ class Plan:
         return {f"{s:g}": int(c) for s, c in zip(stations, counts)}
 
     def max_edge_ratio(self) -> float:
-        """Largest longest-to-shortest edge ratio of a cell (the report's edge ratio; in a
-        tensor grid every dx meets every dy, so the extremes pair up)."""
+        """Largest edge ratio of a cell (the report's; in a tensor grid every dx meets every dy)."""
         dx, dy = np.diff(self.x), np.diff(self.y)
         return float(max(dx.max() / dy.min(), dy.max() / dx.min()))
-
-    def __repr__(self) -> str:
-        return (f"<Plan {self.case.name!r} level {self.level}: {self.dim}-D, {self.cell_count:,} cells, "
-                f"Re_L = {self.flow.reynolds:.4g} ({self.flow.regime}), first cell {self.first_cell_height:.3g} m>")
-
-    def _repr_markdown_(self) -> str:
-        from .summary import plan_markdown
-
-        return f"**{self!r}**\n\n" + plan_markdown(self.to_dict())
-
-    def _repr_html_(self) -> str:
-        import html
-
-        from .summary import plan_html
-
-        return f"<p><b>{html.escape(repr(self))}</b></p>" + plan_html(self.to_dict())
 
     def to_dict(self) -> dict:
         """The figures for people and for plan.json (plain JSON types only)."""

@@ -77,3 +77,17 @@ def plan_html(d: dict) -> str:
     warn = "".join(f"<p>assumes: {html.escape(a)}</p>" for a in d.get("assumptions", []))
     warn += "".join(f"<p><b>warning:</b> {html.escape(w)}</p>" for w in d.get("warnings", []))
     return f"<table><tr><th>quantity</th><th>value</th></tr>{body}</table>{warn}"
+
+
+class PlanDisplay:
+    """The Plan's short ``repr`` and its notebook tables (mixed into Plan)."""
+
+    def __repr__(self) -> str:
+        return (f"<Plan {self.case.name!r} level {self.level}: {self.dim}-D, {self.cell_count:,} cells, "
+                f"Re_L = {self.flow.reynolds:.4g} ({self.flow.regime}), first cell {self.first_cell_height:.3g} m>")
+
+    def _repr_markdown_(self) -> str:
+        return f"**{self!r}**\n\n" + plan_markdown(self.to_dict())
+
+    def _repr_html_(self) -> str:
+        return f"<p><b>{html.escape(repr(self))}</b></p>" + plan_html(self.to_dict())
