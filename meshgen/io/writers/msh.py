@@ -1,71 +1,174 @@
-"""Gmsh MSH files, written by gmsh itself from the Mesh arrays.
+"""Gmsh MSH files (4.1 binary and 2.2 ASCII), written from the Mesh arrays with numpy.
 
-The Mesh is loaded into a discrete gmsh model: one entity for the cells (physical group
-``fluid``) and one entity per boundary group (a physical group of the group's name), so
-that every element is in exactly one group (../shared/pitfalls.md). ``msh`` writes
-MSH 4.1 binary, ``msh2`` MSH 2.2 ASCII; format reference: gmsh reference manual,
-section "MSH file format".
+Each file holds what gmsh itself writes for the Mesh loaded as a discrete model: one
+entity for the cells with the physical group ``fluid`` (tag 1), one entity per boundary
+group ``k = 1, 2, ...`` with a physical group of the group's name (tag k + 1), so that
+every element is in exactly one group (../shared/pitfalls.md); element tags are the
+cells 1..M, then each group's facets in group order. Format reference: gmsh reference
+manual, section "MSH file format" (versions 4.1 and 2.2). The tests hold the files
+against gmsh's own output of the same Mesh (tests/io/test_msh.py).
+
+``msh``, MSH 4.1 binary (little endian, ``size_t`` of 8 bytes)::
+
+    $MeshFormat     "4.1 1 8", int 1 (tells the byte order), $EndMeshFormat
+    $PhysicalNames  ASCII: count, then `dim tag "name"` in (dim, tag) order
+    $Entities       size_t counts of points, curves, surfaces, volumes; per entity: int tag,
+                    double bounding box (min x y z, max x y z), size_t 1, int physical
+                    tag, size_t 0 bounding entities
+    $Nodes          size_t entity blocks, nodes, min and max node tag; per entity (every
+                    one, boundary entities first): int dim, tag, 0 (not parametric),
+                    size_t count, the size_t node tags, then x y z doubles per node. All
+                    nodes sit on the cell entity; boundary entities hold none.
+    $Elements       size_t entity blocks, elements, min and max element tag; per entity
+                    (boundary entities first): int dim, tag, element type, size_t count,
+                    then per element size_t tag and its (1-based) node tags
+
+The bounding boxes are the exact coordinate ranges of each entity's nodes; gmsh's own
+are sampled from its discrete curves' parametrisation and may differ in the last bits
+(readers do not build anything from them).
+
+``msh2``, MSH 2.2 ASCII: the same ``$PhysicalNames``; ``$Nodes`` as ``tag x y z`` with
+the coordinates in C's ``%.16g`` (as gmsh prints them); ``$Elements`` as ``tag type 2
+physical entity nodes...``, numbered 1.. in file order (the facets, group by group, then
+the cells), as gmsh renumbers them in this version.
+
+Arrays are converted and written a block of CHUNK rows at a time, so the temporaries stay
+small whatever the mesh size.
 """
 
 from __future__ import annotations
 
+from collections.abc import Iterable, Iterator
 from pathlib import Path
 
 import numpy as np
 
-from ...meshing.gmsh_session import gmsh_session
 from ...meshing.mesh import Mesh
 from ..atomic import atomic_file
 from .registry import Format, register
+from .su2 import ascii_blocks
 
 #: gmsh element type ids: 2-node line, 4-node quad, 8-node hexahedron.
 GMSH_TYPE = {"line": 1, "quad": 3, "hexahedron": 5}
-#: Nodes or elements handed to gmsh per call. gmsh's API copies every input array into a
-#: vector of its own before building its mesh objects, so passing a whole 1e7-cell mesh
-#: at once would hold two extra copies of the connectivity; chunks keep that small. The
-#: chunks append in order, so the model and the file are the same as with one call.
-CHUNK = 1 << 18
+#: Rows (nodes or elements) converted per step: a step's tables stay a few MB.
+CHUNK = 1 << 16
+#: How gmsh prints a coordinate in MSH 2.2 (C's printf).
+MSH2_FLOAT = "%.16g"
 
 
-def _one_based(ids: np.ndarray) -> np.ndarray:
-    """0-based node ids as gmsh's 1-based unsigned tags, flattened (one copy)."""
-    out = ids.astype(np.uint64)
-    out += 1
-    return out.ravel()
+def _sizes(*values: int) -> bytes:
+    return np.array(values, dtype="<u8").tobytes()
 
 
-def load_into_gmsh(gmsh, mesh: Mesh) -> None:
-    """Create discrete entities, nodes, elements and physical groups for ``mesh``."""
+def _ints(*values: int) -> bytes:
+    return np.array(values, dtype="<i4").tobytes()
+
+
+def _rows(a: np.ndarray) -> Iterator[np.ndarray]:
+    """``a`` in blocks of CHUNK rows (views)."""
+    return (a[s:s + CHUNK] for s in range(0, a.shape[0], CHUNK))
+
+
+def physical_names(mesh: Mesh) -> bytes:
+    """The ``$PhysicalNames`` section: groups (dim - 1, tags 2..), then the cells (dim, 1)."""
     d = mesh.dim
-    gmsh.model.addDiscreteEntity(d, 1)
-    for s in range(0, mesh.n_points, CHUNK):  # chunks of nodes, not nodes
-        e = min(s + CHUNK, mesh.n_points)
-        gmsh.model.mesh.addNodes(d, 1, np.arange(s + 1, e + 1, dtype=np.uint64), mesh.points[s:e].ravel())
-    for s in range(0, mesh.n_cells, CHUNK):  # chunks of cells
-        e = min(s + CHUNK, mesh.n_cells)
-        gmsh.model.mesh.addElementsByType(
-            1, GMSH_TYPE[mesh.cell_type], np.arange(s + 1, e + 1, dtype=np.uint64), _one_based(mesh.cells[s:e])
-        )
-    first = mesh.n_cells + 1
-    gmsh.model.addPhysicalGroup(d, [1], 1, name=mesh.cell_group)
-    for k, g in enumerate(mesh.groups, start=1):
-        gmsh.model.addDiscreteEntity(d - 1, k)
-        n = g.facets.shape[0]
-        tags = np.arange(first, first + n, dtype=np.uint64)
-        gmsh.model.mesh.addElementsByType(k, GMSH_TYPE[mesh.facet_type], tags, _one_based(g.facets))
-        gmsh.model.addPhysicalGroup(d - 1, [k], k + 1, name=g.name)
-        first += n
+    rows = [f'{d - 1} {k} "{g.name}"' for k, g in enumerate(mesh.groups, start=2)]
+    rows.append(f'{d} 1 "{mesh.cell_group}"')
+    return f"$PhysicalNames\n{len(rows)}\n" + "\n".join(rows) + "\n$EndPhysicalNames\n"
 
 
-def _writer(version: float, binary: bool):
+def _box(points: np.ndarray, ids: np.ndarray | None = None) -> bytes:
+    """(min x, y, z, max x, y, z) of the points ``ids`` (all points if None) as doubles."""
+    lo, hi = np.full(3, np.inf), np.full(3, -np.inf)
+    flat = None if ids is None else ids.ravel()
+    for s in range(0, points.shape[0] if flat is None else flat.size, CHUNK):  # chunks of nodes
+        p = points[s:s + CHUNK] if flat is None else points[flat[s:s + CHUNK]]
+        lo, hi = np.minimum(lo, p.min(axis=0)), np.maximum(hi, p.max(axis=0))
+    return np.concatenate([lo, hi]).astype("<f8").tobytes()
+
+
+def _element_tables(first: int, blocks: Iterable[np.ndarray]) -> Iterator[np.ndarray]:
+    """Rows (tag, node tags) as uint64 for node-id blocks, tags counting from ``first``.
+
+    One table is reused: each must be written before the next is asked for.
+    """
+    table = np.empty((0, 0), dtype="<u8")
+    tag = first
+    for nodes in blocks:
+        n, k = nodes.shape
+        if table.shape[0] < n or table.shape[1] != k + 1:
+            table = np.empty((n, k + 1), dtype="<u8")
+        t = table[:n]
+        t[:, 0] = np.arange(tag, tag + n, dtype=np.uint64)
+        np.add(nodes, 1, out=t[:, 1:], casting="unsafe")
+        tag += n
+        yield t
+
+
+def msh41_chunks(mesh: Mesh) -> Iterator[bytes | np.ndarray]:
+    """The MSH 4.1 binary file as byte chunks (bytes or arrays), in file order."""
+    d, groups, n, m = mesh.dim, mesh.groups, mesh.n_points, mesh.n_cells
+    yield b"$MeshFormat\n4.1 1 8\n" + _ints(1) + b"\n$EndMeshFormat\n"
+    yield physical_names(mesh).encode()
+    counts = [0, 0, 0, 0]
+    counts[d - 1], counts[d] = len(groups), 1
+    entities = [_sizes(*counts)]
+    for k, g in enumerate(groups, start=1):  # a handful of groups
+        entities += [_ints(k), _box(mesh.points, g.facets), _sizes(1), _ints(k + 1), _sizes(0)]
+    entities += [_ints(1), _box(mesh.points), _sizes(1), _ints(1), _sizes(0)]
+    yield b"$Entities\n" + b"".join(entities) + b"\n$EndEntities\n"
+
+    yield b"$Nodes\n" + _sizes(len(groups) + 1, n, 1, n)
+    yield b"".join(_ints(d - 1, k, 0) + _sizes(0) for k in range(1, len(groups) + 1))
+    yield _ints(d, 1, 0) + _sizes(n)
+    for s in range(0, n, CHUNK):  # chunks of node tags
+        yield np.arange(s + 1, min(s + CHUNK, n) + 1, dtype="<u8")
+    for p in _rows(mesh.points):
+        yield np.ascontiguousarray(p, dtype="<f8")
+    yield b"\n$EndNodes\n"
+
+    total = m + sum(g.facets.shape[0] for g in groups)
+    yield b"$Elements\n" + _sizes(len(groups) + 1, total, 1, total)
+    first = m + 1
+    for k, g in enumerate(groups, start=1):
+        yield _ints(d - 1, k, GMSH_TYPE[mesh.facet_type]) + _sizes(g.facets.shape[0])
+        yield from _element_tables(first, _rows(g.facets))
+        first += g.facets.shape[0]
+    yield _ints(d, 1, GMSH_TYPE[mesh.cell_type]) + _sizes(m)
+    yield from _element_tables(1, _rows(mesh.cells))
+    yield b"\n$EndElements\n"
+
+
+def msh22_chunks(mesh: Mesh) -> Iterator[bytes | np.ndarray]:
+    """The MSH 2.2 ASCII file as byte chunks, in file order."""
+    yield b"$MeshFormat\n2.2 0 8\n$EndMeshFormat\n" + physical_names(mesh).encode()
+    yield f"$Nodes\n{mesh.n_points}\n".encode()
+    tag = 1
+    for p in _rows(mesh.points):
+        cols = [np.arange(tag, tag + p.shape[0], dtype=np.int64), p[:, 0], p[:, 1], p[:, 2]]
+        yield from ascii_blocks(cols, [b"", b" ", b" ", b" ", b"\n"], float_format=MSH2_FLOAT)
+        tag += p.shape[0]
+    total = mesh.n_cells + sum(g.facets.shape[0] for g in mesh.groups)
+    yield f"$EndNodes\n$Elements\n{total}\n".encode()
+    parts = [(g.facets, GMSH_TYPE[mesh.facet_type], k + 1, k) for k, g in enumerate(mesh.groups, start=1)]
+    parts.append((mesh.cells, GMSH_TYPE[mesh.cell_type], 1, 1))
+    tag = 1
+    for nodes, kind, physical, entity in parts:  # the groups, then the cells
+        for b in _rows(nodes):
+            n = b.shape[0]
+            cols = [np.arange(tag, tag + n, dtype=np.int64)]
+            cols += [np.full(n, v, np.int64) for v in (kind, 2, physical, entity)]
+            cols += [b[:, c] + 1 for c in range(b.shape[1])]
+            yield from ascii_blocks(cols, [b""] + [b" "] * (len(cols) - 1) + [b"\n"])
+            tag += n
+    yield b"$EndElements\n"
+
+
+def _writer(chunks, suffix: str):
     def write(mesh: Mesh, out_dir: Path, stem: str) -> list[Path]:
-        target = Path(out_dir) / f"{stem}.msh" if version > 3 else Path(out_dir) / f"{stem}.v2.msh"
-        with gmsh_session() as gmsh, atomic_file(target) as tmp:
-            load_into_gmsh(gmsh, mesh)
-            gmsh.option.setNumber("Mesh.MshFileVersion", version)
-            gmsh.option.setNumber("Mesh.Binary", 1 if binary else 0)
-            gmsh.option.setNumber("Mesh.SaveAll", 0)
-            gmsh.write(str(tmp))
+        target = Path(out_dir) / f"{stem}{suffix}"
+        with atomic_file(target) as tmp, open(tmp, "wb") as fh:
+            fh.writelines(chunks(mesh))
         return [target]
 
     return write
@@ -77,7 +180,7 @@ register(
         description="Gmsh MSH 4.1, binary, physical groups by name",
         solvers="gmsh, meshio; solvers with a Gmsh import (e.g. OpenFOAM's gmshToFoam, Code_Saturne)",
         outputs=lambda d, s: [Path(d) / f"{s}.msh"],
-        write=_writer(4.1, True),
+        write=_writer(msh41_chunks, ".msh"),
     )
 )
 register(
@@ -86,6 +189,6 @@ register(
         description="Gmsh MSH 2.2, ASCII, physical names in $PhysicalNames",
         solvers="older Gmsh readers; many solvers' legacy import paths",
         outputs=lambda d, s: [Path(d) / f"{s}.v2.msh"],
-        write=_writer(2.2, False),
+        write=_writer(msh22_chunks, ".v2.msh"),
     )
 )

@@ -136,17 +136,25 @@ class _FloatField:
     formatting every entry.
     """
 
-    def __init__(self, values: np.ndarray, prefix: bytes):
+    def __init__(self, values: np.ndarray, prefix: bytes, form: str | None = None):
         v = np.asarray(values, dtype=np.float64)
-        v = (v if v.ndim == 1 else v.ravel()) + 0.0  # -0.0 -> 0.0
+        v = v if v.ndim == 1 else v.ravel()
         if not np.all(np.isfinite(v)):
             raise ValueError("non-finite coordinate")
         _units(prefix)  # refuses a separator holding the padding byte
-        distinct = np.unique(v)
-        # exact (v holds only these values) and faster than unique's return_inverse
-        self.inverse = np.searchsorted(distinct, v)
         text = prefix.decode("latin-1")
-        pool = np.array([text + repr(x) for x in distinct.tolist()], dtype="S")  # NUL-padded = _PAD
+        if form is None:
+            v = v + 0.0  # -0.0 -> 0.0
+            distinct = np.unique(v)
+            # exact (v holds only these values) and faster than unique's return_inverse
+            self.inverse = np.searchsorted(distinct, v)
+            strings = [text + repr(x) for x in distinct.tolist()]
+        else:  # a C format: values told apart by their bits, so -0.0 prints as C prints it
+            bits = v.view(np.int64)
+            distinct = np.unique(bits)
+            self.inverse = np.searchsorted(distinct, bits)
+            strings = [text + form % x for x in distinct.view(np.float64).tolist()]
+        pool = np.array(strings, dtype="S")  # NUL-padded = _PAD
         self.width = -(-pool.dtype.itemsize // 4)
         self.pool = pool.astype(f"S{4 * self.width}").view(np.uint32).reshape(distinct.size, self.width)
 
@@ -154,11 +162,13 @@ class _FloatField:
         out[:] = np.take(self.pool, self.inverse[rows], axis=0, mode="clip")  # contiguous take, one copy
 
 
-def ascii_blocks(columns: Sequence[np.ndarray], seps: Sequence[bytes]) -> list[np.ndarray]:
+def ascii_blocks(columns: Sequence[np.ndarray], seps: Sequence[bytes],
+                 float_format: str | None = None) -> list[np.ndarray]:
     """Format columns of equal length as text rows: ``seps[0] c0 seps[1] c1 ... seps[-1]``.
 
     Integer columns are written in decimal, float columns in Python's shortest exact
-    form. ``seps`` has one more entry than ``columns`` (the row's prefix and ending).
+    form, or in the %-format ``float_format`` (e.g. ``"%.16g"``, as C prints it) when
+    given. ``seps`` has one more entry than ``columns`` (the row's prefix and ending).
     Returns the text as uint8 arrays, one per block of rows, to be written in order.
 
     Each row is a fixed number of 4-byte units (separators, digit chunks, float strings),
@@ -173,7 +183,7 @@ def ascii_blocks(columns: Sequence[np.ndarray], seps: Sequence[bytes]) -> list[n
         return []
     prefixes = [seps[-1] + seps[0], *seps[1:-1]]
     fields = [
-        _IntField(c, p) if np.issubdtype(np.asarray(c).dtype, np.integer) else _FloatField(c, p)
+        _IntField(c, p) if np.issubdtype(np.asarray(c).dtype, np.integer) else _FloatField(c, p, float_format)
         for c, p in zip(columns, prefixes)
     ]
     width = sum(f.width for f in fields)
