@@ -40,13 +40,14 @@ def build_mesh(plan: Plan, verbose: bool = False) -> Mesh:
     _check_against_gmsh(mesh, plan, groups_nodes, quads)
     verify_mesh(mesh, plan.x.size * plan.y.size, (plan.x.size - 1) * (plan.y.size - 1))
     _check_wall_spacing(mesh, plan)
+    meta = {"case": plan.case.name, "level": plan.level}
+    mesh = Mesh(mesh.points, mesh.cells, mesh.groups, mesh.shape, mesh.blocks, plan.case.names.fluid, meta)
     if plan.z is not None:
         n = plan.case.names
+        # lazy: the hexahedra are built block by block by whatever reads them
         mesh = extrude(mesh, plan.z, front=n.front, back=n.back)
         verify_mesh(mesh, plan.node_count, plan.cell_count)
-    meta = {"case": plan.case.name, "level": plan.level}
-    return Mesh(mesh.points, mesh.cells, mesh.groups, mesh.shape, mesh.blocks,
-                plan.case.names.fluid, meta)
+    return mesh
 
 
 def _make_blocks(gmsh, plan: Plan) -> dict:

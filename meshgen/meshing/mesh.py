@@ -20,7 +20,9 @@ lies to the left of each facet, exactly as for the edges of a counter-clockwise 
 
 from __future__ import annotations
 
+from collections.abc import Iterator
 from dataclasses import dataclass, field
+from functools import cached_property
 
 import numpy as np
 
@@ -136,29 +138,93 @@ def structured_mesh(
     return Mesh(points=points, cells=cells, groups=built, shape=(ni, nj), blocks=blocks)
 
 
-def extrude(mesh: Mesh, z: np.ndarray, front: str = "front", back: str = "back") -> Mesh:
+class ExtrudedMesh(Mesh):
+    """A 2-D quad mesh extruded along +z through the node planes ``z`` [m], built lazily.
+
+    It is a :class:`Mesh` of hexahedra (node ``n`` of plane ``k`` has id ``k n2 + n``, cell
+    ``c`` of layer ``k`` has id ``k m2 + c``, for a base of n2 nodes and m2 quads) whose
+    ``points`` and ``cells`` are only built, and then kept, when first read. Its groups
+    are built at once (they are the size of the base, times the layers for the side
+    groups). Writers and reports that go block by block (:func:`cell_blocks`,
+    :func:`point_blocks`) or layer by layer (``plane_points``, ``layer_cells``) never
+    build them, so a 1e8-hexahedron mesh costs the memory of its base and its groups.
+    """
+
+    def __new__(cls, base: Mesh | None = None, z: np.ndarray | None = None, groups=None, **fields):
+        if fields:  # dataclasses.replace(mesh, ...): the changed mesh is an ordinary, built Mesh
+            return Mesh(groups=groups, **fields)
+        return super().__new__(cls)
+
+    def __init__(self, base: Mesh, z: np.ndarray, groups: tuple[Group, ...]):
+        shape = None if base.shape is None else (*base.shape, z.size)
+        for name, value in (("base", base), ("z", z), ("groups", groups), ("shape", shape),
+                            ("blocks", base.blocks), ("cell_group", base.cell_group), ("meta", dict(base.meta))):
+            object.__setattr__(self, name, value)  # frozen, as every Mesh
+
+    def __repr__(self) -> str:
+        return f"ExtrudedMesh({self.base.n_cells} quads x {self.n_layers} layers)"
+
+    @property
+    def dim(self) -> int:
+        return 3
+
+    @property
+    def n_points(self) -> int:
+        return self.base.n_points * self.z.size
+
+    @property
+    def n_cells(self) -> int:
+        return self.base.n_cells * self.n_layers
+
+    @property
+    def n_layers(self) -> int:
+        return self.z.size - 1
+
+    def plane_points(self, k0: int, k1: int) -> np.ndarray:
+        """Nodes of the planes k0 <= k < k1, shape ((k1 - k0) n2, 3) [m]."""
+        out = np.empty((k1 - k0, self.base.n_points, 3))
+        out[:, :, :2] = self.base.points[None, :, :2]
+        out[:, :, 2] = self.z[k0:k1, None]
+        return out.reshape(-1, 3)
+
+    def layer_cells(self, k0: int, k1: int) -> np.ndarray:
+        """Hexahedra of the cell layers k0 <= k < k1 (global node ids), shape (.., 8)."""
+        n2 = self.base.n_points
+        layer = (np.arange(k0, k1, dtype=np.int64) * n2)[:, None, None]
+        q = self.base.cells[None, :, :]
+        out = np.empty((k1 - k0, self.base.n_cells, 8), dtype=np.int64)
+        # written in place through broadcasting views: no temporaries of the 3-D size
+        np.add(q, layer, out=out[:, :, :4])
+        np.add(q, layer + n2, out=out[:, :, 4:])
+        return out.reshape(-1, 8)
+
+    @cached_property
+    def points(self) -> np.ndarray:  # type: ignore[override]
+        return self.plane_points(0, self.z.size)
+
+    @cached_property
+    def cells(self) -> np.ndarray:  # type: ignore[override]
+        return self.layer_cells(0, self.n_layers)
+
+    def built(self) -> bool:
+        """True once ``points`` or ``cells`` has been read (and is kept)."""
+        return "points" in self.__dict__ or "cells" in self.__dict__
+
+
+def extrude(mesh: Mesh, z: np.ndarray, front: str = "front", back: str = "back") -> ExtrudedMesh:
     """Extrude a 2-D quad mesh along +z through the node planes ``z`` [m] into hexahedra.
 
     Every 2-D group becomes a group of quads; the planes z[0] and z[-1] form the groups
-    ``back`` and ``front``. The 2-D node distributions are kept exactly.
+    ``back`` and ``front``. The 2-D node distributions are kept exactly. The result is
+    lazy (:class:`ExtrudedMesh`): its points and cells are built only when read.
     """
     if mesh.dim != 2:
         raise ValueError("only a 2-D mesh can be extruded")
-    z = np.asarray(z, dtype=np.float64)
-    if z.size < 2 or np.any(np.diff(z) <= 0):
+    z = np.array(z, dtype=np.float64)  # a copy: the mesh is immutable
+    if z.ndim != 1 or z.size < 2 or np.any(np.diff(z) <= 0):
         raise ValueError("extrusion planes must be at least two, strictly increasing")
     n2, nk = mesh.n_points, z.size
-    # Written in place through broadcasting views: no temporaries of the 3-D size.
-    points = np.empty((nk, n2, 3))
-    points[:, :, :2] = mesh.points[None, :, :2]
-    points[:, :, 2] = z[:, None]
-    points = points.reshape(-1, 3)
     layer = (np.arange(nk - 1, dtype=np.int64) * n2)[:, None, None]
-    q = mesh.cells[None, :, :]
-    cells = np.empty((nk - 1, mesh.n_cells, 8), dtype=np.int64)
-    np.add(q, layer, out=cells[:, :, :4])
-    np.add(q, layer + n2, out=cells[:, :, 4:])
-    cells = cells.reshape(-1, 8)
     groups = []
     for g in mesh.groups:
         a, b = (g.facets[None, :, 0] + layer[:, :, 0]), (g.facets[None, :, 1] + layer[:, :, 0])
@@ -167,13 +233,65 @@ def extrude(mesh: Mesh, z: np.ndarray, front: str = "front", back: str = "back")
     base = mesh.cells
     groups.append(Group(back, "back", base[:, [0, 3, 2, 1]].copy(), (Patch("kmin"),)))
     groups.append(Group(front, "front", base + (nk - 1) * n2, (Patch("kmax"),)))
-    shape = None if mesh.shape is None else (*mesh.shape, nk)
-    return Mesh(
-        points=points,
-        cells=cells,
-        groups=tuple(groups),
-        shape=shape,
-        blocks=mesh.blocks,
-        cell_group=mesh.cell_group,
-        meta=dict(mesh.meta),
-    )
+    return ExtrudedMesh(mesh, z, tuple(groups))
+
+
+#: Rows per block of cell_blocks and point_blocks: a block's arrays stay in cache.
+BLOCK = 1 << 16
+
+
+def cell_blocks(mesh: Mesh, rows: int = BLOCK) -> Iterator[np.ndarray]:
+    """The cells in order, in blocks of at most ``rows``.
+
+    A block may be a buffer that the next block overwrites: use it (write it, copy from
+    it) before asking for the next. A lazy extrusion builds its hexahedra block by block
+    from the base quads and never holds them all.
+    """
+    if not isinstance(mesh, ExtrudedMesh) or mesh.built():
+        yield from (mesh.cells[s:s + rows] for s in range(0, mesh.n_cells, rows))
+        return
+    base, n2 = mesh.base.cells, mesh.base.n_points
+    buf = np.empty((min(rows, base.shape[0]), 8), dtype=np.int64)
+    for k in range(mesh.n_layers):  # layers, then blocks of base quads
+        for s in range(0, base.shape[0], rows):
+            q = base[s:s + rows]
+            out = buf[:q.shape[0]]
+            np.add(q, k * n2, out=out[:, :4])
+            np.add(q, (k + 1) * n2, out=out[:, 4:])
+            yield out
+
+
+def point_blocks(mesh: Mesh, rows: int = BLOCK) -> Iterator[np.ndarray]:
+    """The points in order, in (at most ``rows``, 3) float64 blocks; the same reuse rule as
+    :func:`cell_blocks`."""
+    if not isinstance(mesh, ExtrudedMesh) or mesh.built():
+        yield from (mesh.points[s:s + rows] for s in range(0, mesh.n_points, rows))
+        return
+    xy = mesh.base.points[:, :2]
+    buf = np.empty((min(rows, xy.shape[0]), 3))
+    for zk in mesh.z.tolist():  # planes, then blocks of base nodes
+        for s in range(0, xy.shape[0], rows):
+            out = buf[:min(rows, xy.shape[0] - s)]
+            out[:, :2] = xy[s:s + rows]
+            out[:, 2] = zk
+            yield out
+
+
+def node_coordinates(mesh: Mesh, ids: np.ndarray) -> np.ndarray:
+    """Coordinates (ids.shape + (3,)) [m] of the nodes ``ids``; a lazy extrusion computes
+    them from its base and planes without building its points."""
+    if not isinstance(mesh, ExtrudedMesh) or mesh.built():
+        return mesh.points[ids]
+    k, n = np.divmod(ids, mesh.base.n_points)
+    out = np.empty(np.shape(ids) + (3,))
+    out[..., :2] = mesh.base.points[n, :2]
+    out[..., 2] = mesh.z[k]
+    return out
+
+
+def bounds(mesh: Mesh) -> tuple[np.ndarray, np.ndarray]:
+    """Smallest and largest x, y, z [m] of the nodes."""
+    if isinstance(mesh, ExtrudedMesh) and not mesh.built():
+        xy = mesh.base.points[:, :2]
+        return (np.append(xy.min(axis=0), mesh.z.min()), np.append(xy.max(axis=0), mesh.z.max()))
+    return mesh.points.min(axis=0), mesh.points.max(axis=0)

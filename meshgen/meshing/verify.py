@@ -15,7 +15,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..core.errors import MeshError
-from .mesh import Mesh
+from .mesh import ExtrudedMesh, Mesh, extrude
 
 #: Outward-ordered faces of a VTK hexahedron (right-hand normal points out of the cell).
 HEX_FACES = np.array(
@@ -326,6 +326,9 @@ def verify_mesh(mesh: Mesh, expected_points: int | None = None, expected_cells: 
         raise MeshError(f"mesh has {mesh.n_points} nodes, the plan has {expected_points}")
     if expected_cells is not None and mesh.n_cells != expected_cells:
         raise MeshError(f"mesh has {mesh.n_cells} cells, the plan has {expected_cells}")
+    if isinstance(mesh, ExtrudedMesh) and not mesh.built():
+        _verify_extrusion(mesh)
+        return
     if not np.all(np.isfinite(mesh.points)):
         raise MeshError("mesh has non-finite node coordinates")
     grid = is_tensor_grid(mesh)
@@ -335,6 +338,29 @@ def verify_mesh(mesh: Mesh, expected_points: int | None = None, expected_cells: 
     if grid and _tags_cover_grid_sides(mesh):
         return  # every node is used and every face is closed by construction of the grid
     _verify_faces(mesh)
+
+
+def _verify_extrusion(mesh: ExtrudedMesh) -> None:
+    """verify_mesh for a lazy extrusion, without building its hexahedra.
+
+    A hexahedron of layer k has the corner Jacobians of its base quad's corners times
+    the layer thickness, so with strictly increasing finite planes it is right-handed
+    and valid exactly when its quad is; its faces are the quad's edges swept through the
+    layer and the two planes. So the mesh passes when its base passes and its groups are
+    the base groups swept through the layers plus the first (back) and last (front)
+    planes, which is checked array by array.
+    """
+    z = mesh.z
+    if not (np.all(np.isfinite(z)) and np.all(np.diff(z) > 0)):
+        raise MeshError("the extrusion planes must be finite and strictly increasing")
+    verify_mesh(mesh.base)
+    roles = [g.role for g in mesh.groups]
+    if roles[-2:] != ["back", "front"] or len(mesh.groups) != len(mesh.base.groups) + 2:
+        raise MeshError("an extruded mesh must hold its base's groups, then back and front")
+    want = extrude(mesh.base, z, front=mesh.groups[-1].name, back=mesh.groups[-2].name).groups
+    for g, w in zip(mesh.groups, want, strict=True):
+        if g.name != w.name or not np.array_equal(g.facets, w.facets):
+            raise MeshError(f"group {g.name!r} is not its base group swept through the layers")
 
 
 def _verify_faces(mesh: Mesh) -> None:

@@ -20,7 +20,7 @@ from samples import BLOCKS, GROUPS
 from meshgen.io.writers import FORMATS
 from meshgen.io.writers.msh import GMSH_TYPE
 from meshgen.meshing.gmsh_session import gmsh_session
-from meshgen.meshing.mesh import Mesh, extrude, structured_mesh
+from meshgen.meshing.mesh import ExtrudedMesh, Mesh, extrude, structured_mesh
 
 #: The MSH 4.1 binary header fields (gmsh reference manual, "MSH file format"):
 #: per entity an int tag, then (min x, y, z, max x, y, z) as doubles.
@@ -146,3 +146,14 @@ def test_meshio_reads_it(tmp_path, kind, fmt, meshio_format):
         assert sizes == {**mesh.group_sizes(), mesh.cell_group: mesh.n_cells}
     else:  # MSH 2.2: names only in field_data (pitfalls.md)
         assert set(m.field_data) == {g.name for g in mesh.groups} | {mesh.cell_group}
+
+
+def test_lazy_extrusion_writes_the_same_bytes_without_building_its_cells(tmp_path):
+    base = sample("2d")
+    for fmt in ("msh", "msh2"):
+        lazy = extrude(base, np.linspace(0.0, 0.3, 5))
+        (a,) = FORMATS[fmt].write(lazy, tmp_path / "lazy", "m")
+        assert isinstance(lazy, ExtrudedMesh) and not lazy.built()
+        eager = Mesh(lazy.points, lazy.cells, lazy.groups, lazy.shape, lazy.blocks)
+        (b,) = FORMATS[fmt].write(eager, tmp_path / "eager", "m")
+        assert a.read_bytes() == b.read_bytes()

@@ -33,7 +33,8 @@ physical entity nodes...``, numbered 1.. in file order (the facets, group by gro
 the cells), as gmsh renumbers them in this version.
 
 Arrays are converted and written a block of CHUNK rows at a time, so the temporaries stay
-small whatever the mesh size.
+small whatever the mesh size; a lazy extrusion (``ExtrudedMesh``) is written from its
+base and planes block by block, without building its points or hexahedra.
 """
 
 from __future__ import annotations
@@ -43,7 +44,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ...meshing.mesh import Mesh
+from ...meshing.mesh import Mesh, bounds, cell_blocks, node_coordinates, point_blocks
 from ..atomic import atomic_file
 from .registry import Format, register
 from .su2 import ascii_blocks
@@ -77,12 +78,14 @@ def physical_names(mesh: Mesh) -> bytes:
     return f"$PhysicalNames\n{len(rows)}\n" + "\n".join(rows) + "\n$EndPhysicalNames\n"
 
 
-def _box(points: np.ndarray, ids: np.ndarray | None = None) -> bytes:
-    """(min x, y, z, max x, y, z) of the points ``ids`` (all points if None) as doubles."""
+def _box(mesh: Mesh, ids: np.ndarray | None = None) -> bytes:
+    """(min x, y, z, max x, y, z) of the nodes ``ids`` (all nodes if None) as doubles."""
+    if ids is None:
+        return np.concatenate(bounds(mesh)).astype("<f8").tobytes()
     lo, hi = np.full(3, np.inf), np.full(3, -np.inf)
-    flat = None if ids is None else ids.ravel()
-    for s in range(0, points.shape[0] if flat is None else flat.size, CHUNK):  # chunks of nodes
-        p = points[s:s + CHUNK] if flat is None else points[flat[s:s + CHUNK]]
+    flat = ids.ravel()
+    for s in range(0, flat.size, CHUNK):  # chunks of node ids
+        p = node_coordinates(mesh, flat[s:s + CHUNK])
         lo, hi = np.minimum(lo, p.min(axis=0)), np.maximum(hi, p.max(axis=0))
     return np.concatenate([lo, hi]).astype("<f8").tobytes()
 
@@ -114,8 +117,8 @@ def msh41_chunks(mesh: Mesh) -> Iterator[bytes | np.ndarray]:
     counts[d - 1], counts[d] = len(groups), 1
     entities = [_sizes(*counts)]
     for k, g in enumerate(groups, start=1):  # a handful of groups
-        entities += [_ints(k), _box(mesh.points, g.facets), _sizes(1), _ints(k + 1), _sizes(0)]
-    entities += [_ints(1), _box(mesh.points), _sizes(1), _ints(1), _sizes(0)]
+        entities += [_ints(k), _box(mesh, g.facets), _sizes(1), _ints(k + 1), _sizes(0)]
+    entities += [_ints(1), _box(mesh), _sizes(1), _ints(1), _sizes(0)]
     yield b"$Entities\n" + b"".join(entities) + b"\n$EndEntities\n"
 
     yield b"$Nodes\n" + _sizes(len(groups) + 1, n, 1, n)
@@ -123,7 +126,7 @@ def msh41_chunks(mesh: Mesh) -> Iterator[bytes | np.ndarray]:
     yield _ints(d, 1, 0) + _sizes(n)
     for s in range(0, n, CHUNK):  # chunks of node tags
         yield np.arange(s + 1, min(s + CHUNK, n) + 1, dtype="<u8")
-    for p in _rows(mesh.points):
+    for p in point_blocks(mesh, CHUNK):
         yield np.ascontiguousarray(p, dtype="<f8")
     yield b"\n$EndNodes\n"
 
@@ -135,7 +138,7 @@ def msh41_chunks(mesh: Mesh) -> Iterator[bytes | np.ndarray]:
         yield from _element_tables(first, _rows(g.facets))
         first += g.facets.shape[0]
     yield _ints(d, 1, GMSH_TYPE[mesh.cell_type]) + _sizes(m)
-    yield from _element_tables(1, _rows(mesh.cells))
+    yield from _element_tables(1, cell_blocks(mesh, CHUNK))
     yield b"\n$EndElements\n"
 
 
@@ -144,17 +147,17 @@ def msh22_chunks(mesh: Mesh) -> Iterator[bytes | np.ndarray]:
     yield b"$MeshFormat\n2.2 0 8\n$EndMeshFormat\n" + physical_names(mesh).encode()
     yield f"$Nodes\n{mesh.n_points}\n".encode()
     tag = 1
-    for p in _rows(mesh.points):
+    for p in point_blocks(mesh, CHUNK):
         cols = [np.arange(tag, tag + p.shape[0], dtype=np.int64), p[:, 0], p[:, 1], p[:, 2]]
         yield from ascii_blocks(cols, [b"", b" ", b" ", b" ", b"\n"], float_format=MSH2_FLOAT)
         tag += p.shape[0]
     total = mesh.n_cells + sum(g.facets.shape[0] for g in mesh.groups)
     yield f"$EndNodes\n$Elements\n{total}\n".encode()
     parts = [(g.facets, GMSH_TYPE[mesh.facet_type], k + 1, k) for k, g in enumerate(mesh.groups, start=1)]
-    parts.append((mesh.cells, GMSH_TYPE[mesh.cell_type], 1, 1))
+    parts.append((None, GMSH_TYPE[mesh.cell_type], 1, 1))
     tag = 1
     for nodes, kind, physical, entity in parts:  # the groups, then the cells
-        for b in _rows(nodes):
+        for b in cell_blocks(mesh, CHUNK) if nodes is None else _rows(nodes):
             n = b.shape[0]
             cols = [np.arange(tag, tag + n, dtype=np.int64)]
             cols += [np.full(n, v, np.int64) for v in (kind, 2, physical, entity)]
