@@ -8,6 +8,7 @@ clean up what a killed run left behind.
 from __future__ import annotations
 
 import os
+import secrets
 import shutil
 import tempfile
 from collections.abc import Iterator
@@ -34,16 +35,22 @@ def atomic_file(target: Path) -> Iterator[Path]:
     """Yield a temporary path in ``target``'s folder; on success rename it to ``target``."""
     target = Path(target)
     target.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=TMP_PREFIX, suffix=target.suffix, dir=target.parent)
-    os.close(fd)
-    tmp_path = Path(tmp)
+    # The name is chosen first and the file created inside the try: a Ctrl-C that lands
+    # just after the file appears is then cleaned up too.
+    tmp_path = target.parent / f"{TMP_PREFIX}{secrets.token_hex(8)}{target.suffix}"
+    ours = True
     try:
+        try:
+            os.close(os.open(tmp_path, os.O_CREAT | os.O_EXCL | os.O_WRONLY, 0o600))
+        except FileExistsError:
+            ours = False  # someone else's file (a 64-bit name collision): leave it
+            raise
         yield tmp_path
         _publish_mode(tmp_path, directory=False)
         os.replace(tmp_path, target)
     finally:
-        if tmp_path.exists():
-            tmp_path.unlink()
+        if ours:
+            tmp_path.unlink(missing_ok=True)
 
 
 @contextmanager
