@@ -45,8 +45,15 @@ def _parser() -> argparse.ArgumentParser:
     si.add_argument("-o", "--output", help="file to write (default <template>.toml)")
     si.add_argument("--force", action="store_true", help="overwrite an existing file")
 
-    sg = sub.add_parser("gci", help="grid-convergence uncertainty (Celik et al. 2008) from a results CSV")
-    sg.add_argument("results", help="CSV: one row per mesh with cells or h and named quantities")
+    sg = sub.add_parser("gci", help="grid-convergence uncertainty (Celik et al. 2008) from a family folder or a CSV")
+    sg.add_argument("results", help="a family folder (each level's results.json), or a CSV: one row per mesh with "
+                                    "cells or h (or mesh names with family.json) and named quantities")
+    sg.add_argument("--wall", metavar="NAME.csv",
+                    help="with a family folder: each level's wall distribution NAME.csv, GCI at stations along the wall")
+    sg.add_argument("--stations", metavar="X/L,...",
+                    help="stations x/L for --wall: a,b,c or start:stop:step (default 0.1:0.9:0.05)")
+    sg.add_argument("--quantity", action="append", metavar="NAME", help="with --wall: the columns to study "
+                    "(repeatable; default every column but x)")
     sg.add_argument("--json", action="store_true", help="print the results as JSON")
     sg.add_argument("--plot", metavar="FILE", help="write a PNG of each quantity against h")
     sg.add_argument("--manifest", metavar="FILE", help="family.json giving h per level (default: beside the CSV)")
@@ -140,6 +147,12 @@ def cmd_gci(args) -> int:
     from ..study.gci_report import gci_table, plot_gci
     from ..study.results import read_results_csv, study_rows
 
+    if Path(args.results).is_dir():
+        from .loop_commands import cmd_gci_folder
+
+        return cmd_gci_folder(args)
+    if args.wall or args.stations or args.quantity:
+        raise InputError("gci: --wall, --stations and --quantity need a family folder, not a CSV")
     if args.area is not None and args.volume is not None:
         raise InputError("gci: give --area (2-D) or --volume (3-D), not both")
     dim = 2 if args.area is not None else 3 if args.volume is not None else None

@@ -107,8 +107,11 @@ def add_commands(sub) -> dict:
     _run_args(ss)
 
     sd = sub.add_parser("domain", help="domain independence: each sweep variant against the largest domain")
-    sd.add_argument("results", help="CSV: one row per variant, a key column (e.g. height_factor) or a 'variant' "
-                                    "column of folder names, and one or more quantity columns")
+    sd.add_argument("results", help="a sweep folder (each variant's results.json), or a CSV: one row per variant, "
+                                    "a key column (e.g. height_factor) or a 'variant' column of folder names, and "
+                                    "one or more quantity columns")
+    sd.add_argument("--fit-order", type=float, metavar="Q",
+                    help="decay order q of the fit phi_inf + a H^-q (default: fitted, from 3 variants)")
     sd.add_argument("--key", metavar="COLUMN",
                     help="the column or sweep key that sizes the domain (default: the only one that varies)")
     sd.add_argument("--tol", type=float, default=DEFAULT_TOL, metavar="FRACTION",
@@ -216,7 +219,10 @@ def cmd_domain(args) -> int:
         problems.append(f"--tol {args.tol}: a fraction above 0 and below 1, e.g. 0.01 for 1 %")
     if problems:
         raise InputError(problems)
-    summary = domain_summary(args.results, key=args.key, tol=args.tol, manifest=args.manifest)
+    if args.fit_order is not None and not args.fit_order > 0:
+        raise InputError(f"--fit-order {args.fit_order}: a positive decay order, e.g. 1")
+    summary = domain_summary(args.results, key=args.key, tol=args.tol, manifest=args.manifest,
+                             fit_order=args.fit_order)
     if args.json:
         print(json.dumps({**summary, "verdict": verdict(summary)}, indent=2, allow_nan=False))
     else:

@@ -290,6 +290,12 @@ def read_sweep_results(
             f"{path}: no column sizes the domain; name one with --key COLUMN (e.g. "
             f"height_factor), or add a {VARIANT_COLUMN!r} column with the variant folder names"
         )
+    return _sweep_results(path, rows, lines, values, found, key)
+
+
+def _sweep_results(path: Path, rows: list[dict], lines: list[int], values: dict, found: Path | None,
+                   key: str | None) -> SweepResults:
+    """The rows with the chosen key's value each, checked: one key varies, the others hold."""
     chosen = _pick_key(key, values)
     problems = [
         f"{k} takes {len(set(col))} values among the rows ({', '.join(f'{x:g}' for x in sorted(set(col)))}): "
@@ -314,14 +320,39 @@ def read_sweep_results(
     return SweepResults(out, chosen, quantities, held, found)
 
 
+def read_sweep_folder(sweep_dir: str | Path, key: str | None = None) -> tuple[SweepResults, list[str]]:
+    """The rows of a sweep folder's ``results.json`` files (member_results.py), ready for
+    ``sweep_summary``, and warnings (members left out)."""
+    from .member_results import sweep_rows
+
+    rows, values, manifest, warnings = sweep_rows(sweep_dir)
+    return _sweep_results(manifest, rows, list(range(1, len(rows) + 1)), values, manifest, key), warnings
+
+
 def domain_summary(
     path: str | Path, key: str | None = None, tol: float = DEFAULT_TOL,
-    manifest: str | Path | None = None,
+    manifest: str | Path | None = None, fit_order: float | None = None,
 ) -> dict:
-    """``sweep_summary`` of a sweep's results CSV, with per quantity ``within_from`` and, at
-    the top, ``all_within``, ``held`` (the other keys' values), ``csv`` and ``manifest``."""
-    res = read_sweep_results(path, key, manifest)
+    """``sweep_summary`` of a sweep's results CSV, or of a sweep folder's results.json files,
+    with per quantity ``within_from`` and, from three variants on, ``fit`` (domain_fit.py:
+    phi_inf + a H^-q, q fitted or ``fit_order``); at the top ``all_within``, ``held`` (the
+    other keys' values), ``csv`` (or the folder), ``manifest`` and ``warnings``."""
+    from .domain_fit import fit_power_law
+
+    warnings: list[str] = []
+    if Path(path).is_dir():
+        if manifest is not None:
+            raise InputError(f"--manifest {manifest}: a sweep folder has its own sweep.json; drop the option")
+        res, warnings = read_sweep_folder(path, key)
+    else:
+        res = read_sweep_results(path, key, manifest)
     out = sweep_summary(res.rows, res.key, res.quantities, tol)
+    for q, st in out["quantities"].items():
+        vs = st["variants"]
+        if len(vs) >= 3 or (fit_order is not None and len(vs) >= 2):
+            st["fit"] = fit_power_law([v[res.key] for v in vs], [v["value"] for v in vs], fit_order)
+            warnings += [f"{q}: {w}" for w in st["fit"]["warnings"]]
+    out["warnings"] = warnings
     for q in out["quantities"].values():
         q["within_from"] = within_from(q, res.key)
     out["all_within"] = all(q["all_within"] for q in out["quantities"].values())

@@ -26,6 +26,7 @@ KEY_MEANING = {
 DATA_COLOUR, OUT_COLOUR, REF_COLOUR, BAND_COLOUR, LINE_COLOUR = (
     "#4f6d8a", "#b86f52", "#2f3b45", "#b7d3b0", "#9aa8b4",
 )
+FIT_COLOUR = "#7b4b94"  # a plum fit curve and limit line
 
 
 def _pct(x: float) -> str:
@@ -110,7 +111,24 @@ def domain_table(summary: Mapping) -> str:
             f"  largest change {_pct(st['max_abs_rel_change'])}; within {_pct(tol)} from "
             f"{key} = {st['within_from']:g} up"
         )
+        out += _fit_lines(st.get("fit"), key)
+    out += [f"warning: {w}" for w in summary.get("warnings", [])]
     return "\n".join([*out, "", verdict(summary)])
+
+
+def _fit_lines(fit: Mapping | None, key: str) -> list[str]:
+    """The fit phi_inf + a H^-q and each variant's difference from phi_inf."""
+    if fit is None:
+        return []
+    how = "fitted" if fit["q_fitted"] else "given"
+    head = (f"  fit phi({key}) = phi_inf + a {key}^-q: phi_inf = {fit['phi_inf']:.8g}, q = {fit['q']:.3g} "
+            f"({how}), a = {fit['a']:.4g}, rms residual {fit['rms']:.3g}")
+    if not fit["reliable"]:
+        return [(f"  fit phi({key}) = phi_inf + a {key}^-q: UNRELIABLE, no power-law decay fits; "
+                 "phi_inf not reported (see --json)")]
+    diffs = ", ".join(f"{key} = {d['key']:g}: {_signed_pct(d['rel_diff'])}" for d in fit["differences"]
+                      if d["rel_diff"] is not None)
+    return [head, f"  difference from phi_inf: {diffs}"]
 
 
 def _plot_one(ax, q: str, st: Mapping, key: str, tol: float, ref_key: float) -> None:
@@ -123,6 +141,13 @@ def _plot_one(ax, q: str, st: Mapping, key: str, tol: float, ref_key: float) -> 
                label=f"\u00b1{_pct(tol)} of the largest domain's value")
     ax.axhline(ref, color=REF_COLOUR, lw=0.8, ls=":")
     ax.plot(x, y, "-", color=LINE_COLOUR, lw=1.2, zorder=2)
+    fit = st.get("fit")
+    if fit is not None and fit["reliable"]:
+        xx = np.linspace(x.min(), x.max() * 1.5, 200)
+        ax.plot(xx, fit["phi_inf"] + fit["a"] * xx ** -fit["q"], "--", color=FIT_COLOUR, lw=1.1, zorder=2,
+                label=f"fit phi_inf + a {key}^-q (q = {fit['q']:.3g}, {'fitted' if fit['q_fitted'] else 'given'})")
+        ax.axhline(fit["phi_inf"], color=FIT_COLOUR, lw=0.9, ls="-.",
+                   label=f"phi_inf = {fit['phi_inf']:.6g} (unbounded domain)")
     ax.plot(x[ok], y[ok], "o", color=DATA_COLOUR, ms=7, ls="none", zorder=3, label="within the tolerance")
     if not ok.all():
         ax.plot(x[~ok], y[~ok], "o", mfc="white", mec=OUT_COLOUR, mew=1.8, ms=7, ls="none", zorder=3,
@@ -137,8 +162,8 @@ def _plot_one(ax, q: str, st: Mapping, key: str, tol: float, ref_key: float) -> 
     scale = 100.0 / abs(ref)  # value -> change against the reference [%]
     right = ax.secondary_yaxis("right", functions=(lambda v: (v - ref) * scale, lambda p: ref + p / scale))
     right.set_ylabel("change against the largest domain [%]")
-    span = x.max() - x.min()
-    ax.set_xlim(x.min() - 0.08 * span, x.max() + 0.12 * span)
+    span = (x.max() * (1.5 if fit is not None and fit["reliable"] else 1.0)) - x.min()
+    ax.set_xlim(x.min() - 0.08 * span, x.min() + 1.1 * span)
     ax.margins(y=0.12)  # room for the change labels above the points
     ax.set_xlabel(_key_label(key))
     ax.set_ylabel(q)

@@ -14,7 +14,7 @@ import numpy as np
 
 from ..core.errors import InputError
 from ..io.atomic import atomic_file
-from .gci import METHOD_TWO
+from .gci import METHOD_TWO, P_HIGH_FACTOR, P_LOW
 
 
 def _by_quantity(results: Mapping) -> dict:
@@ -33,7 +33,31 @@ def _pct(x) -> str:
     return "-" if x is None else f"{100 * x:.4g} %"
 
 
+def unreliable_because(res: Mapping) -> str | None:
+    """Why a result's extrapolation and GCI are not results to report (None: they are).
+
+    A three-grid GCI stands only on monotonic convergence with an apparent order near a
+    practical scheme's (P_LOW to P_HIGH_FACTOR times the formal order, as ``three_grid``
+    warns); a tiny GCI from an oscillatory set or an absurd order is not a small uncertainty.
+    A two-grid estimate states its assumed order and stands as such.
+    """
+    if res["method"] == METHOD_TWO:
+        return None
+    if res["kind"] != "monotonic":
+        return f"{res['kind']} convergence"
+    p = res["p"]
+    if p is None or res["gci_fine21"] is None:
+        return "no apparent order or GCI"
+    hi = P_HIGH_FACTOR * res.get("formal_order", 2.0)
+    if not P_LOW <= p <= hi:
+        return f"apparent order p = {p:.3g} outside {P_LOW:g} to {hi:g}"
+    return None
+
+
 def _result_lines(res: dict) -> list[str]:
+    why = unreliable_because(res)
+    if why is not None and res["gci_fine21"] is not None:
+        return _unreliable_lines(res, why)
     out = [f"  {' / '.join(res['levels'])}: {res['method']}, Fs = {res['fs']:g}"]
     ratios = f"r21 = {res['r21']:.4g}" + (f", r32 = {res['r32']:.4g}" if "r32" in res else "")
     steps = f", {res['p_iterations']} steps" if res.get("p_iterations") else ""
@@ -54,6 +78,21 @@ def _result_lines(res: dict) -> list[str]:
             if "gci_medium32" in res
             else ""
         ),
+    ]
+    return out + [f"    warning: {w}" for w in res["warnings"]]
+
+
+def _unreliable_lines(res: dict, why: str) -> list[str]:
+    """The result without its extrapolation and GCI printed as numbers (they are not results)."""
+    ratios = f"r21 = {res['r21']:.4g}" + (f", r32 = {res['r32']:.4g}" if "r32" in res else "")
+    conv = res["kind"] + (f" (R = {res['R']:.4g})" if res.get("R") is not None else "")
+    out = [
+        f"  {' / '.join(res['levels'])}: {res['method']}, Fs = {res['fs']:g}",
+        f"    refinement ratios   {ratios}",
+        f"    convergence         {conv}",
+        f"    order               p = {_num(res['p'])}",
+        (f"    GCI                 UNRELIABLE ({why}): no extrapolated value or GCI is reported; "
+         "see the JSON output for the raw numbers"),
     ]
     return out + [f"    warning: {w}" for w in res["warnings"]]
 
@@ -96,6 +135,11 @@ def _plot_one(ax, quantity: str, st: dict) -> None:
         )
     res = st["results"][0]  # the finest triplet (or pair) sets the extrapolation
     ext, u, p = res["phi_ext21"], res["u_fine21"], res["p"]
+    why = unreliable_because(res)
+    if why is not None and ext is not None:  # not a result: say so instead of drawing a band
+        ax.text(0.02, 0.04, f"extrapolation and GCI unreliable: {why}", transform=ax.transAxes,
+                color=EXT_COLOUR, fontsize="small")
+        ext = None
     if ext is not None and res["kind"] != "oscillatory":
         hh = np.linspace(0.0, h.max(), 200)
         ax.plot(

@@ -20,6 +20,7 @@ import numpy as np
 
 from ..core.errors import InputError
 from .gci import h_from_cells, study
+from .gci_report import unreliable_because
 from .manifest import load_json
 
 NAME_COLUMNS = ("mesh", "level")  # optional column naming each mesh
@@ -156,7 +157,8 @@ def read_family_levels(manifest: str | Path) -> list[dict]:
 
 
 def _h_from_manifest(manifest: Path, rows: list[dict], lines: list[int], path: Path) -> list[float]:
-    """h of each row, matching the mesh/level column to level names, else cells to cells."""
+    """h of each row, matching the mesh/level column to level names, else cells to cells.
+    Rows without a ``cells`` column (keyed by member names alone) take the level's cells."""
     levels = read_family_levels(manifest)
     by_name = {str(lv["name"]): lv for lv in levels if "name" in lv}
     counts = [lv.get("cells") for lv in levels]
@@ -165,6 +167,15 @@ def _h_from_manifest(manifest: Path, rows: list[dict], lines: list[int], path: P
     problems, hs = [], []
     for row, ln in zip(rows, lines):  # per mesh: a handful
         name = row[name_col] if name_col else None
+        if "cells" not in row:
+            lv = by_name.get(name)
+            if lv is None:
+                problems.append(f"{path} line {ln}: no level named {name!r} in {manifest} "
+                                f"(levels: {', '.join(by_name)})")
+            else:
+                row["cells"] = lv.get("cells")
+                hs.append(float(lv["h"]))
+            continue
         lv = by_name.get(name) or by_cells.get(row["cells"])
         if lv is None:
             label = f"named {name!r} or " if name else ""
@@ -203,9 +214,12 @@ def read_results_csv(
     rows, lines = read_csv_with_lines(path)
     cols = list(rows[0])
     problems = []
-    if "h" not in cols and "cells" not in cols:
+    found = Path(manifest) if manifest is not None else path.with_name(MANIFEST_NAME)
+    by_name = name_column(rows) is not None and found.is_file()
+    if "h" not in cols and "cells" not in cols and not by_name:
         problems.append(
-            f"{path}: no 'cells' or 'h' column to size each mesh (columns: {', '.join(cols)})"
+            f"{path}: no 'cells' or 'h' column to size each mesh (columns: {', '.join(cols)}); "
+            f"or name each mesh in a 'mesh' column with a {MANIFEST_NAME} beside the CSV or given"
         )
     if not quantity_columns(rows):
         problems.append(
@@ -224,6 +238,14 @@ def read_results_csv(
     if "cells" in cols:
         for r in rows:
             r["cells"] = int(r["cells"])
+    elif "h" not in cols:  # keyed by member names alone: cells and h from the manifest
+        hs = _h_from_manifest(found, rows, lines, path)
+        for r, h in zip(rows, hs):
+            r["h"] = h
+        if any(r["cells"] is None for r in rows):
+            for r in rows:
+                r.pop("cells")
+        cols = list(rows[0])
     if "h" not in cols:
         if manifest is not None and (dim is not None or size is not None):
             raise InputError(
@@ -234,7 +256,6 @@ def read_results_csv(
                 raise InputError(f"dim = {dim!r}, size = {size!r}: h from cells needs both")
             hs = h_from_cells([r["cells"] for r in rows], dim, size).tolist()
         else:
-            found = Path(manifest) if manifest is not None else path.with_name(MANIFEST_NAME)
             if manifest is None and not found.is_file():
                 raise InputError(
                     f"{path}: only 'cells' is given, so h needs the domain size: give the "
@@ -286,4 +307,9 @@ def study_rows(
         "assumed_order": assumed_order,
         "formal_order": formal_order,
     }
-    return {"quantities": {q: study([r[q] for r in rows], quantity=q, **common) for q in qs}}
+    out = {"quantities": {q: study([r[q] for r in rows], quantity=q, **common) for q in qs}}
+    for st in out["quantities"].values():
+        for res in st["results"]:
+            res["unreliable_because"] = unreliable_because(res)
+            res["reliable"] = res["unreliable_because"] is None
+    return out
