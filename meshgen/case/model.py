@@ -103,6 +103,9 @@ class Domain(Section):
     downstream: float = Field(0.5, ge=0, le=100, description="wake block length [L]")
     span: float = Field(0.0, ge=0, le=100, description="spanwise extent [L]; 0 = 2-D")
     span_cells: int = Field(1, ge=1, le=10000, description="spanwise cell count")
+    span_boundary: Literal["symmetry", "patch"] = Field(
+        "symmetry", description="type of the front and back faces of a 3-D mesh in every format that "
+        "carries types: symmetry plane, or a plain patch the solver set-up decides")
 
 
 class Streamwise(Section):

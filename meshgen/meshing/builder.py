@@ -40,7 +40,7 @@ def build_mesh(plan: Plan, verbose: bool = False) -> Mesh:
     _check_against_gmsh(mesh, plan, groups_nodes, quads)
     verify_mesh(mesh, plan.x.size * plan.y.size, (plan.x.size - 1) * (plan.y.size - 1))
     _check_wall_spacing(mesh, plan)
-    meta = {"case": plan.case.name, "level": plan.level}
+    meta = {"case": plan.case.name, "level": plan.level, "span_boundary": plan.case.domain.span_boundary}
     mesh = Mesh(mesh.points, mesh.cells, mesh.groups, mesh.shape, mesh.blocks, plan.case.names.fluid, meta)
     if plan.z is not None:
         n = plan.case.names

@@ -30,6 +30,19 @@ from ..planning.layout import Block, Patch
 
 #: Roles a boundary group can play; writers map them to their solver's patch types.
 ROLES = ("inlet", "outlet", "wall", "farfield", "symmetry", "front", "back")
+#: What the front and back faces of a 3-D mesh are (case key ``domain.span_boundary``),
+#: the same in every format that carries a type; "empty" is the one-layer extrusion a
+#: writer makes of a 2-D mesh for a solver that runs 2-D as one cell thick.
+SPAN_BOUNDARIES = ("symmetry", "patch", "empty")
+
+
+def span_boundary(mesh: Mesh) -> str:
+    """The type of ``mesh``'s front and back groups: ``mesh.meta["span_boundary"]``, else
+    "symmetry" (a mesh read from a file carries no choice)."""
+    kind = mesh.meta.get("span_boundary", "symmetry")
+    if kind not in SPAN_BOUNDARIES:
+        raise ValueError(f"span boundary {kind!r}; valid: {', '.join(SPAN_BOUNDARIES)}")
+    return kind
 
 @dataclass(frozen=True, eq=False)
 class Group:

@@ -191,3 +191,15 @@ def test_a_million_cells(tmp_path):
     assert [g.shape for g in got] == [(3, 1, 1001, 301), (3, 1, 1001, 501), (3, 1, 1001, 201)]
     for g, w in zip(got, expected_blocks(m), strict=True):
         np.testing.assert_array_equal(g, w)
+
+
+@needs_tools
+def test_2d_through_plot3d_to_cgns_is_rejected_as_the_readme_says(tmp_path):
+    # README (Output formats): a 2-D grid is written with nk = 1, and plot3d_to_cgns turns it
+    # into a 3-D zone with one K plane, which cgnscheck rejects; use --format cgns for 2-D.
+    # If a later cgns-convert accepts it, this test fails and the README's caution can go.
+    xyz = plot3d.write(sample("2d"), tmp_path, "p")[0]
+    out = tmp_path / "p.cgns"
+    subprocess.run(["plot3d_to_cgns", "-u", "-d", str(xyz), str(out)], capture_output=True, timeout=60, check=True)
+    check = subprocess.run(["cgnscheck", str(out)], capture_output=True, text=True, timeout=60, check=False).stdout
+    assert "number of points in K-direction < 2" in check

@@ -10,6 +10,7 @@ meshgen.readers.foam, whose only knowledge is the file syntax; the geometric che
 use nothing from the writer.
 """
 
+import dataclasses
 import re
 from pathlib import Path
 
@@ -141,20 +142,28 @@ def test_2d_mesh_is_extruded_to_one_empty_layer(tmp_path, make):
     )
 
 
-def test_multi_layer_3d_keeps_front_and_back_as_patches(tmp_path):
+@pytest.mark.parametrize("span, want", [(None, "symmetryPlane"), ("symmetry", "symmetryPlane"), ("patch", "patch")])
+def test_3d_front_and_back_follow_the_span_boundary(tmp_path, span, want):
+    # domain.span_boundary decides the type in every format that carries one (CGNS: the
+    # family's FamilyBC); a mesh with no choice recorded takes the default, symmetry.
     mesh = extrude(small_2d(), np.linspace(0, 0.5, 4))
+    if span is not None:
+        mesh = dataclasses.replace(mesh, meta={"span_boundary": span})
     write_polymesh(mesh, tmp_path)
     pm = read_polymesh(tmp_path / "constant" / "polyMesh")
     check_polymesh(pm, mesh.n_cells, mesh.group_sizes(), 3.0 * 1.0 * 0.5)
-    assert pm["patches"]["front"][0] == "patch" and pm["patches"]["back"][0] == "patch"
+    assert pm["patches"]["front"][0] == want and pm["patches"]["back"][0] == want
     np.testing.assert_array_equal(pm["points"], mesh.points)
 
 
-def test_one_layer_3d_has_empty_front_and_back(tmp_path):
-    mesh = extrude(small_2d(), np.array([0.0, 0.2]))
-    write_polymesh(mesh, tmp_path)
-    pm = read_polymesh(tmp_path)
+def test_one_layer_3d_keeps_the_chosen_type_and_2d_gets_empty(tmp_path):
+    mesh = dataclasses.replace(extrude(small_2d(), np.array([0.0, 0.2])), meta={"span_boundary": "patch"})
+    write_polymesh(mesh, tmp_path / "a")
+    pm = read_polymesh(tmp_path / "a")
     check_polymesh(pm, mesh.n_cells, mesh.group_sizes(), 3.0 * 1.0 * 0.2)
+    assert pm["patches"]["front"][0] == "patch" and pm["patches"]["back"][0] == "patch"
+    write_polymesh(small_2d(), tmp_path / "b")  # a 2-D mesh: OpenFOAM's one-layer 2-D, empty
+    pm = read_polymesh(tmp_path / "b")
     assert pm["patches"]["front"][0] == "empty" and pm["patches"]["back"][0] == "empty"
 
 
@@ -319,7 +328,7 @@ def test_renumbered_mesh_takes_the_general_path(tmp_path):
     write_polymesh(renumbered, tmp_path)
     pm = read_polymesh(tmp_path)
     check_polymesh(pm, mesh.n_cells, mesh.group_sizes(), extent(mesh, 0) * extent(mesh, 1) * 0.1)
-    assert pm["patches"]["front"][0] == "empty"
+    assert pm["patches"]["front"][0] == "symmetryPlane"  # a 3-D mesh with no recorded choice
 
 
 def test_grid_with_a_doubly_tagged_face_falls_back_and_is_refused():

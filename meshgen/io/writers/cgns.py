@@ -18,7 +18,8 @@ Tree written (one zone per block of a structured mesh)::
       <block>           Zone_t              I4 (3, index dim): nodes, cells, 0
         ZoneType                            Structured
         GridCoordinates                     CoordinateX, CoordinateY[, CoordinateZ] R8 [m]
-        ZoneBC / <group> BC_t               PointRange (1-based block-local nodes), FamilyName
+        ZoneBC / <group> BC_t               FamilySpecified: PointRange (1-based block-local
+                                            nodes), FamilyName = the group's Family_t
         ZoneGridConnectivity / <name>       GridConnectivity1to1_t to the neighbouring
                                             blocks: PointRange, PointRangeDonor, Transform
 
@@ -26,16 +27,26 @@ Zones are named after the blocks (a block named like a group gets ``_zone`` appe
 since families and zones share the base); the CGNS library numbers zones in name order,
 so zone 1 is the alphabetically first block, not the upstream one.
 
-A mesh without a structured layout becomes one unstructured zone: an Elements_t section
+A mesh without a structured layout, or any mesh written as ``cgns-single``
+(``<stem>.single.cgns``), becomes one unstructured zone: an Elements_t section
 of QUAD_4 or HEXA_8 cells, one of BAR_2 (2-D) or QUAD_4 (3-D) facets per group, and one
 BC_t per group whose PointRange is that section's element range (GridLocation FaceCenter
-in 3-D, EdgeCenter in 2-D).
+in 3-D, EdgeCenter in 2-D). One zone serves readers that do not join multi-zone 1-to-1
+interfaces (code_saturne's preprocessor leaves them as ungrouped boundary faces) and SU2,
+whose CGNS reader takes a single unstructured zone and names its markers after the
+boundary Elements_t sections (SU2 8.1, Common/src/geometry/meshreader/
+CCGNSMeshReaderBase.cpp and CCGNSMeshReaderFVM.cpp: one base, one zone, Unstructured;
+marker tag = section name; it reads no BC_t).
 
-Boundary condition types by role (SIDS BCType_t): wall -> BCWall (the
-equation set makes it no-slip), inlet -> BCInflow, outlet -> BCOutflow, farfield ->
-BCFarfield, symmetry -> BCSymmetryPlane, and front/back -> BCSymmetryPlane, because the
-spanwise faces of an extruded mesh stand in for a 2-D flow; a solver that wants them
-periodic or empty sets that in its own set-up.
+Every BC_t is ``FamilySpecified`` and names its group's Family_t, whose FamilyBC holds the
+physical type (SIDS 9.2 FamilyBC_t, 9.3 BC_t "FamilySpecified"): VTK's CGNS reader
+(ParaView's) loads FamilySpecified BCs as patches and skips BC_t nodes typed BCWall,
+BCInflow, ... (vtkCGNSReader 9.x: "BC_t type ... not supported yet"), while a reader that
+follows the family finds the type there. Types by role (SIDS BCType_t): wall -> BCWall
+(the equation set makes it no-slip), inlet -> BCInflow, outlet -> BCOutflow, farfield ->
+BCFarfield, symmetry -> BCSymmetryPlane; front/back follow ``domain.span_boundary``
+(``meshing.mesh.span_boundary``): symmetry -> BCSymmetryPlane, patch -> UserDefined (the name BCTypeUserDefined has in files)
+(the solver set-up decides).
 
 Sources: CGNS SIDS (cgns.github.io, "CGNS/SIDS"); CGNS/HDF5 file mapping
 ("CGNS/HDF5 - An HPC implementation") and the attribute types as the CGNS library's
@@ -50,21 +61,21 @@ from pathlib import Path
 import numpy as np
 
 from ...core.errors import WriteError
-from ...meshing.mesh import Mesh
+from ...meshing.mesh import Mesh, span_boundary
 from ..atomic import atomic_file
 from .plot3d import grid_blocks, grid_shape, group_pieces
 from .registry import Format, register
 
-#: BC type of each group role (SIDS BCType_t).
+#: BC type of each group role (SIDS BCType_t); front and back follow SPAN_BC.
 ROLE_BC = {
     "wall": "BCWall",
     "inlet": "BCInflow",
     "outlet": "BCOutflow",
     "farfield": "BCFarfield",
     "symmetry": "BCSymmetryPlane",
-    "front": "BCSymmetryPlane",
-    "back": "BCSymmetryPlane",
 }
+#: BC type of the front and back faces per ``domain.span_boundary``.
+SPAN_BC = {"symmetry": "BCSymmetryPlane", "patch": "UserDefined", "empty": "UserDefined"}
 #: SIDS ElementType_t values (cgnslib.h): BAR_2, QUAD_4, HEXA_8.
 ELEMENT_TYPE = {"line": 3, "quad": 7, "hexahedron": 17}
 #: The CGNS library version this file claims; readers refuse files newer than themselves.
@@ -168,7 +179,7 @@ class _Tree:
         self.node(base, "DimensionalUnits", "DimensionalUnits_t", "C1", units)
         for g in mesh.groups:
             fam = self.node(base, _check_name(g.name, "group name"), "Family_t")
-            self.text(fam, "FamilyBC", "FamilyBC_t", _bc_type(g.role, g.name))
+            self.text(fam, "FamilyBC", "FamilyBC_t", _bc_type(g.role, g.name, span_boundary(mesh)))
         return base
 
     def coordinates(self, zone, arrays: dict[str, np.ndarray]) -> None:
@@ -179,15 +190,18 @@ class _Tree:
             self.node(arr, "DimensionalExponents", "DimensionalExponents_t", "R4",
                       np.array([0, 1, 0, 0, 0], dtype=np.float32))
 
-    def bc(self, zbc, name: str, group: str, role: str, lo, hi, location: str | None = None) -> None:
-        bc = self.text(zbc, name, "BC_t", _bc_type(role, group))
+    def bc(self, zbc, name: str, group: str, lo, hi, location: str | None = None) -> None:
+        """A BC_t on ``group``'s family (its type lives in the Family_t's FamilyBC)."""
+        bc = self.text(zbc, name, "BC_t", "FamilySpecified")
         self.ints(bc, "PointRange", "IndexRange_t", [lo, hi])  # HDF5 (2, idim) = CGNS (idim, 2)
         if location:
             self.text(bc, "GridLocation", "GridLocation_t", location)
         self.text(bc, "FamilyName", "FamilyName_t", group)
 
 
-def _bc_type(role: str, group: str) -> str:
+def _bc_type(role: str, group: str, span: str = "symmetry") -> str:
+    if role in ("front", "back"):
+        return SPAN_BC[span]
     try:
         return ROLE_BC[role]
     except KeyError:
@@ -237,7 +251,7 @@ def _write_structured(tree: _Tree, mesh: Mesh) -> None:
         zbc = tree.node(zone, "ZoneBC", "ZoneBC_t")
         taken: set[str] = set()
         for pc in (p for p in pieces if p.block == bi):
-            tree.bc(zbc, _unique(pc.group, taken), pc.group, pc.role, pc.lo[:dim], pc.hi[:dim])
+            tree.bc(zbc, _unique(pc.group, taken), pc.group, pc.lo[:dim], pc.hi[:dim])
         if len(blocks) > 1:
             zgc = tree.node(zone, "ZoneGridConnectivity", "ZoneGridConnectivity_t")
             full = [nj, nk][: dim - 1]
@@ -279,15 +293,28 @@ def _write_unstructured(tree: _Tree, mesh: Mesh) -> None:
     # A BC on boundary elements: faces in 3-D, edges in 2-D (SIDS GridLocation_t).
     location = "FaceCenter" if dim == 3 else "EdgeCenter"
     for g, (lo, hi) in zip(mesh.groups, ranges[1:], strict=True):
-        tree.bc(zbc, g.name, g.name, g.role, [lo], [hi], location)
+        tree.bc(zbc, g.name, g.name, [lo], [hi], location)
 
 
 def _outputs(out_dir: Path, stem: str) -> list[Path]:
     return [Path(out_dir) / f"{stem}.cgns"]
 
 
+def _single_outputs(out_dir: Path, stem: str) -> list[Path]:
+    return [Path(out_dir) / f"{stem}.single.cgns"]
+
+
 def write(mesh: Mesh, out_dir: Path, stem: str) -> list[Path]:
     """Write ``<stem>.cgns`` into ``out_dir``; structured zones when the mesh has a layout."""
+    return _write(mesh, _outputs(out_dir, stem)[0], single=False)
+
+
+def write_single(mesh: Mesh, out_dir: Path, stem: str) -> list[Path]:
+    """Write ``<stem>.single.cgns``: the whole mesh as one unstructured zone."""
+    return _write(mesh, _single_outputs(out_dir, stem)[0], single=True)
+
+
+def _write(mesh: Mesh, target: Path, single: bool) -> list[Path]:
     import h5py
 
     for g in mesh.groups:  # fail before a file exists
@@ -295,13 +322,12 @@ def write(mesh: Mesh, out_dir: Path, stem: str) -> list[Path]:
         _check_name(g.name, "group name")
         if g.facets.shape[0] == 0:
             raise WriteError(f"group {g.name!r} has no facets; a CGNS boundary condition needs at least one")
-    target = _outputs(out_dir, stem)[0]
     # HDF5 1.8 object formats, as the CGNS library itself writes (its V18 bounds), so
     # that readers built on older HDF5 releases open the file.
     with atomic_file(target) as tmp, h5py.File(tmp, "w", libver=("v108", "v108"), track_order=True) as f:
         tree = _Tree(h5py, f)
         tree.root()
-        if mesh.shape is None:
+        if mesh.shape is None or single:
             _write_unstructured(tree, mesh)
         else:
             _write_structured(tree, mesh)
@@ -312,8 +338,17 @@ register(
     Format(
         name="cgns",
         description="CGNS/HDF5: structured zones per block with BCs, families and 1-to-1 interfaces",
-        solvers="CGNS readers: SU2, CFL3D, FUN3D, ParaView, VisIt",
+        solvers="structured CGNS readers: CFL3D, FUN3D, ParaView, VisIt",
         outputs=_outputs,
         write=write,
+    )
+)
+register(
+    Format(
+        name="cgns-single",
+        description="CGNS/HDF5: the whole mesh as one unstructured zone, one element section and family per group",
+        solvers="SU2 (its CGNS reader takes one unstructured zone), code_saturne, ParaView",
+        outputs=_single_outputs,
+        write=write_single,
     )
 )

@@ -20,8 +20,10 @@ faces, pairs and upper-triangular order follow from the grid indices (:func:`_gr
 with the same arrays as the sort gives.
 
 Patch types follow the group roles: wall -> ``wall``, symmetry -> ``symmetryPlane``,
-front/back -> ``empty`` when the mesh is one cell thick (OpenFOAM's way to solve 2-D),
-anything else -> ``patch``.
+anything else -> ``patch``; front/back -> ``empty`` on the one-layer extrusion of a 2-D
+mesh (OpenFOAM's way to solve 2-D), and on a 3-D mesh what ``domain.span_boundary``
+chose (``meshing.mesh.span_boundary``): ``symmetryPlane`` or ``patch``, the same choice
+the CGNS writer's families carry.
 
 A 2-D Mesh is extruded to one layer first. The span defaults to :func:`extrusion_span`:
 1/100 of the domain's streamwise extent, at most 1 m. It depends on the domain only, so
@@ -32,21 +34,23 @@ force coefficients); it is written in the header note of ``points``.
 from __future__ import annotations
 
 import re
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 
 import numpy as np
 
 from ... import __version__
 from ...core.errors import MeshError, WriteError
-from ...meshing.mesh import Mesh, extrude
+from ...meshing.mesh import Mesh, extrude, span_boundary
 from ...meshing.verify import HEX_FACES, cell_faces, is_tensor_grid
 from ..atomic import atomic_dir
 from .registry import Format, register
 from .su2 import ascii_blocks
 
-#: OpenFOAM patch type per group role; front/back depend on the layer count.
+#: OpenFOAM patch type per group role; front/back follow SPAN_PATCH.
 PATCH_TYPE = {"wall": "wall", "symmetry": "symmetryPlane"}
+#: OpenFOAM patch type of the front and back faces per span boundary.
+SPAN_PATCH = {"symmetry": "symmetryPlane", "patch": "patch", "empty": "empty"}
 #: A patch name OpenFOAM reads as a word (no whitespace, quotes, ; { } ( ) /).
 WORD = re.compile(r"[A-Za-z_][A-Za-z0-9_.+-]*")
 #: Largest default span of a one-layer extrusion [m].
@@ -88,11 +92,6 @@ def _face_keys(faces: np.ndarray, n_points: int) -> tuple[np.ndarray, np.ndarray
     diag_b = lo_b * n_points + hi_b
     a_first = lo_a < lo_b
     return np.where(a_first, diag_a, diag_b), np.where(a_first, diag_b, diag_a)
-
-
-def _one_layer(group_cells: np.ndarray, n_cells: int) -> bool:
-    """True when the group has exactly one face on every cell (a one-cell-thick mesh)."""
-    return group_cells.size == n_cells and np.bincount(group_cells, minlength=n_cells).max() == 1
 
 
 #: Internal faces of a grid cell towards its +i, +j and +k neighbours: the cell's
@@ -269,15 +268,12 @@ def polymesh(mesh: Mesh) -> PolyMesh:
         raise MeshError("polymesh: the mesh has no boundary groups")
     paired = _grid_paired(mesh)
     faces, owner, nei = _sort_paired(mesh) if paired is None else paired
-    bcell = owner[nei.size :]
+    span = span_boundary(mesh)
     patches = []
     start = nei.size
     for g in mesh.groups:  # a loop over the handful of boundary groups
         n = g.facets.shape[0]
-        kind = PATCH_TYPE.get(g.role, "patch")
-        if g.role in ("front", "back"):
-            lo = start - nei.size
-            kind = "empty" if _one_layer(bcell[lo : lo + n], mesh.n_cells) else "patch"
+        kind = SPAN_PATCH[span] if g.role in ("front", "back") else PATCH_TYPE.get(g.role, "patch")
         patches.append((g.name, kind, start, n))
         start += n
     return PolyMesh(
@@ -369,7 +365,8 @@ def write_polymesh(mesh: Mesh, out_dir: Path, span: float | None = None) -> Path
         taken = {"front", "back"} & {g.name for g in mesh.groups}
         if taken:
             raise WriteError(f"polymesh: group names {sorted(taken)} are needed for the extrusion's faces")
-        mesh = extrude(mesh, np.array([0.0, span]))
+        # set on the 2-D mesh: the extrusion copies it and stays lazy
+        mesh = extrude(replace(mesh, meta={**mesh.meta, "span_boundary": "empty"}), np.array([0.0, span]))
         note = f"2-D mesh extruded to one layer, span {span!r} m"
     elif span is not None:
         raise WriteError(f"polymesh: span {span} m given for a 3-D mesh; it applies to 2-D meshes only")
