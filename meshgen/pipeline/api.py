@@ -15,7 +15,6 @@ nothing here exits or prints.
 from __future__ import annotations
 
 import os
-from dataclasses import dataclass, fields
 from functools import cached_property
 from pathlib import Path
 
@@ -39,16 +38,23 @@ def plan(case=None) -> Plan:
     return make_plan(case if isinstance(case, Case) else load_case(case))
 
 
-@dataclass(frozen=True, eq=False, repr=False)
-class BuiltMesh(Mesh):
+class BuiltMesh:
     """A verified Mesh together with the Plan it was built from.
 
-    Adds what a notebook needs: ``write`` (any registered format), ``quality()`` (the
+    Reads like the Mesh (``points`` [m], ``cells``, ``groups``, ``group_sizes()``, ``dim``,
+    ...; ``.mesh`` is the Mesh itself, which a 3-D extrusion builds only when read) and
+    adds what a notebook needs: ``write`` (any registered format), ``quality()`` (the
     quality report, with the boundary-layer section from the plan), ``pictures(folder)``
-    and ``boundary_conditions()`` (the BC sheet). Coordinates in metres.
+    and ``boundary_conditions()`` (the BC sheet).
     """
 
-    plan: Plan | None = None
+    def __init__(self, mesh: Mesh, plan: Plan | None = None):
+        self.mesh, self.plan = mesh, plan
+
+    def __getattr__(self, name: str):
+        if name == "mesh":  # not set yet (copy, pickle): no recursion
+            raise AttributeError(name)
+        return getattr(self.mesh, name)
 
     def __repr__(self) -> str:
         return (f"<BuiltMesh {self.meta.get('case', '?')!r} level {self.meta.get('level', 0)}: "
@@ -89,14 +95,14 @@ class BuiltMesh(Mesh):
         path = Path(path)
         fmt = get_format(format) if format else _format_for(path, FORMATS)
         folder, stem = _folder_and_stem(path, fmt)
-        return fmt.write(self, folder, stem)
+        return fmt.write(self.mesh, folder, stem)
 
     @cached_property
     def _quality(self) -> dict:
         from ..reports.quality import quality_report
         from .build import quality_for_plan
 
-        return quality_report(self) if self.plan is None else quality_for_plan(self.plan, self)
+        return quality_report(self.mesh) if self.plan is None else quality_for_plan(self.plan, self.mesh)
 
     def quality(self) -> dict:
         """The quality report as JSON-ready data (what ``quality.json`` holds): cell
@@ -114,7 +120,7 @@ class BuiltMesh(Mesh):
         """Write mesh.png, spacing.png and y_plus.png into ``folder``; return their paths."""
         from ..reports.plots import make_pictures
 
-        return make_pictures(self, self._quality, self.meta.get("case", "mesh"), Path(folder))
+        return make_pictures(self.mesh, self._quality, self.meta.get("case", "mesh"), Path(folder))
 
     def boundary_conditions(self) -> dict:
         """The boundary-condition sheet (what ``bc.json`` holds): free stream, turbulence
@@ -166,5 +172,4 @@ def build(plan: Plan, verbose: bool = False) -> BuiltMesh:
 
     if not isinstance(plan, Plan):
         raise InputError(f"build: expected a Plan (from meshgen.plan(case)), got {type(plan).__name__}")
-    mesh = build_mesh(plan, verbose=verbose)
-    return BuiltMesh(**{f.name: getattr(mesh, f.name) for f in fields(Mesh)}, plan=plan)
+    return BuiltMesh(build_mesh(plan, verbose=verbose), plan)

@@ -112,3 +112,11 @@ def test_gci_from_rows_matches_the_closed_form():
     assert "GCI_fine" in repr(res) and "```" in res._repr_markdown_()
     with pytest.raises(InputError):
         meshgen.gci([{"cells": 100, "q": 1.0}, {"cells": 400, "q": 1.1}])
+
+
+def test_a_3d_build_stays_lazy_until_read(tmp_path):
+    plan = meshgen.plan({"flow": {"reynolds": 1e5}, "domain": {"span": 0.05, "span_cells": 2}})
+    mesh = meshgen.build(plan)
+    assert mesh.dim == 3 and not mesh.mesh.built()  # the API does not build the hexahedra itself
+    [cgns] = mesh.write(tmp_path / "p.cgns")
+    assert cgns.stat().st_size > 0 and mesh.n_cells == plan.cell_count
