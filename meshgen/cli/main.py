@@ -237,7 +237,7 @@ def cmd_build(args) -> int:
 COMMANDS = {"plan": cmd_plan, "build": cmd_build, "init": cmd_init, "formats": cmd_formats, "gci": cmd_gci,
             "inspect": cmd_inspect}
 #: Modules whose add_commands(subparsers) adds more commands and returns {name: function}.
-EXTRA_COMMANDS: list[str] = ["meshgen.cli.study_commands"]
+EXTRA_COMMANDS: list[str] = ["meshgen.cli.study_commands", "meshgen.cli.loop_commands"]
 
 
 def main(argv: list[str] | None = None) -> int:

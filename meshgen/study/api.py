@@ -28,12 +28,14 @@ def _case_source(case):
 
 
 def family(case=None, levels: int = 3, ratio: float = 2.0, output: PathLike | None = None, *,
-           formats: Sequence[str] | None = None, workers: int = 1, force: bool = False) -> RunReport:
+           formats: Sequence[str] | None = None, workers: int = 1, force: bool = False,
+           keep_counts: bool = False) -> RunReport:
     """Build a refinement family of ``case`` (a Case, dictionary, TOML path or None for the
     default case) into ``output``/level-0, level-1, ... with ``output``/family.json.
 
-    Level 0 is the case as given; level k divides every block's cell count by ``ratio``**k
-    on the same node mappings (``levels`` 2 to 12, ``ratio`` above 1.1; Celik et al. 2008
+    Level 0 is the case with its counts rounded up so that the levels nest (the case's
+    counts exactly with ``keep_counts``); level k divides every block's cell count by
+    ``ratio``**k on the same node mappings (``levels`` 2 to 12, ``ratio`` above 1.1; Celik et al. 2008
     recommend more than 1.3). ``output`` defaults to ``outputs/<case name>-family``.
     Returns the RunReport (manifest path, members built, skipped, failed); raises
     InputError before building anything on bad input and MeshError, after the others
@@ -44,7 +46,8 @@ def family(case=None, levels: int = 3, ratio: float = 2.0, output: PathLike | No
     from .runner import run_study
 
     study, _ = family_study(_case_source(case), [], levels, ratio, list(formats) if formats else None,
-                            ["family", "--levels", str(levels), "--ratio", repr(ratio)])
+                            ["family", "--levels", str(levels), "--ratio", repr(ratio)]
+                            + (["--keep-counts"] if keep_counts else []), keep_counts=keep_counts)
     root = output_folder(output, f"{study.members[0].plan.case.name}-family")
     report = run_study(study, root, workers=workers, force=force)
     if report.failed:
