@@ -11,6 +11,7 @@ import sys
 import time
 from pathlib import Path
 
+from ..core.jsontext import dumps
 from .config import CHILD_LIMIT, CHILD_TIMEOUT, _formats, _plan, _size
 
 
@@ -147,14 +148,14 @@ def _child(spec_path: str) -> None:
     job = json.loads(Path(spec_path).read_text())
     result = JOBS[job["kind"]](job)
     result["peak_rss"] = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss * 1024  # KiB on Linux
-    write_text(Path(job["result"]), json.dumps(result))
+    write_text(Path(job["result"]), dumps(result, indent=None))
 
 
 def run_child(job: dict, workdir: Path) -> dict:
     """Run one job in a fresh interpreter; its result, or {"error": ...}."""
     n = len(list(workdir.glob("job-*.json")))
     spec, result = workdir / f"job-{n}.json", workdir / f"result-{n}.json"
-    spec.write_text(json.dumps({**job, "result": str(result)}))
+    spec.write_text(dumps({**job, "result": str(result)}, indent=None))
     env = dict(os.environ, PYTHONPATH=os.pathsep.join(
         [str(Path(__file__).resolve().parents[2])] + [p for p in [os.environ.get("PYTHONPATH")] if p]))
     try:

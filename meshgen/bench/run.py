@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import argparse
-import json
 import os
 import shutil
 import sys
@@ -20,6 +19,7 @@ from .report import goals, table
 def run_bench(cfg: Config, json_path: Path, workdir: Path | None = None, mode: str = "custom",
               say=lambda s: print(s, file=sys.stderr, flush=True)) -> dict:
     """Run every measurement of ``cfg``, write ``json_path`` and return the result."""
+    from ..core.jsontext import dumps
     from ..io.atomic import write_text
 
     info = machine()
@@ -48,7 +48,7 @@ def run_bench(cfg: Config, json_path: Path, workdir: Path | None = None, mode: s
     result["goals"] = goals(cfg, rows, exponent["build"])
     json_path = Path(json_path)
     json_path.parent.mkdir(parents=True, exist_ok=True)
-    write_text(json_path, json.dumps(result, indent=2) + "\n")
+    write_text(json_path, dumps(result) + "\n")
     return result
 
 

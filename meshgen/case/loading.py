@@ -95,8 +95,11 @@ def apply_overrides(data: dict[str, Any], overrides: list[str]) -> dict[str, Any
         if not sep or not key:
             problems.append(f"--set {item!r}: expected section.key=value")
             continue
-        if key == "name":
-            data["name"] = raw.strip()
+        if key == "name":  # parsed like every other value: "--set name=run1" or name="run 1"
+            if raw.strip():
+                data["name"] = _parse_value(raw.strip())
+            else:
+                data.pop("name", None)
             continue
         section, dot, field = key.partition(".")
         if not dot or section not in SECTIONS:

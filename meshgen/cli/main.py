@@ -8,13 +8,13 @@ from __future__ import annotations
 
 import argparse
 import importlib
-import json
 import os
 import sys
 from pathlib import Path
 
 from .. import __version__
 from ..core.errors import InputError, MeshgenError
+from ..core.jsontext import dumps
 from .args import _case_args, _Parser
 
 EXIT_OK, EXIT_FAIL, EXIT_INPUT, EXIT_INTERRUPT = 0, 1, 2, 130
@@ -124,7 +124,7 @@ def cmd_plan(args) -> int:
     if args.json:
         d["boundary_conditions"] = sheet
         d["caution"] = CAUTION
-        print(json.dumps(d, indent=2))
+        print(dumps(d))
     else:
         print(plan_table(d))
         print()
@@ -162,7 +162,7 @@ def cmd_gci(args) -> int:
     rows = read_results_csv(args.results, dim=dim, size=size, manifest=args.manifest)
     results = study_rows(rows, fs=args.fs, assumed_order=args.assumed_order, formal_order=args.formal_order)
     if args.json:
-        print(json.dumps(to_json(results), indent=2))
+        print(dumps(to_json(results)))
     else:
         print(gci_table(results))
     if args.plot:
@@ -209,7 +209,7 @@ def cmd_inspect(args) -> int:
 
         pics = make_pictures(mesh, report, path.stem, Path(args.pictures))
     if args.json:
-        print(json.dumps(report, indent=2))
+        print(dumps(report))
     else:
         print(quality_markdown(report, path.stem, [p.name for p in pics]))
     return EXIT_OK

@@ -17,12 +17,12 @@ out and a Dask run's manifest equals a local run's apart from ``created``.
 from __future__ import annotations
 
 import argparse
-import json
 import os
 import sys
 from pathlib import Path
 
 from ..core.errors import InputError, WriteError
+from ..core.jsontext import dumps
 from ..pipeline.build import output_folder
 from ..study.domain import DEFAULT_TOL, domain_summary
 from ..study.domain_report import domain_table, plot_domain, verdict
@@ -224,7 +224,7 @@ def cmd_domain(args) -> int:
     summary = domain_summary(args.results, key=args.key, tol=args.tol, manifest=args.manifest,
                              fit_order=args.fit_order)
     if args.json:
-        print(json.dumps({**summary, "verdict": verdict(summary)}, indent=2, allow_nan=False))
+        print(dumps({**summary, "verdict": verdict(summary)}))
     else:
         print(domain_table(summary))
     if args.plot:

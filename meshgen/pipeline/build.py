@@ -7,7 +7,6 @@ written atomically; ``plan.json`` is written last, so its presence marks a finis
 
 from __future__ import annotations
 
-import json
 import os
 from collections.abc import Callable
 from pathlib import Path
@@ -15,7 +14,9 @@ from pathlib import Path
 import numpy as np
 
 from ..core.errors import InputError
+from ..core.jsontext import dumps
 from ..io.atomic import clean_stale, write_text
+from ..io.lock import folder_lock
 from ..planning.plan import Plan
 
 Progress = Callable[[str], None]
@@ -58,6 +59,13 @@ def resolve_formats(names: list[str] | None, default: list[str]):
     return fmts
 
 
+def _unwritable(targets: list[Path]) -> list[str]:
+    """Outputs whose folder exists but may not be written (e.g. a read-only ``constant/``)."""
+    folders = dict.fromkeys(p.parent for p in targets)
+    return [f"{d}: folder is not writable" for d in folders
+            if d.is_dir() and not os.access(d, os.W_OK | os.X_OK)]
+
+
 #: Reports written beside every mesh (plan.json last, as the mark of a finished build).
 REPORT_FILES = ("bc.json", "bc.md", "quality.json", "report.md", "plan.json")
 
@@ -69,7 +77,17 @@ def planned_outputs(out: Path, stem: str, fmts) -> list[Path]:
 
 def build_plan(plan: Plan, out: Path, fmts, force: bool = False, pictures: bool = True,
                verbose: bool = False, progress: Progress = _quiet) -> list[Path]:
-    """Build and write one plan into ``out``; return the files written."""
+    """Build and write one plan into ``out``; return the files written.
+
+    The folder is locked for the whole build (io/lock.py): a second build into it stops
+    with an InputError naming the process that holds it.
+    """
+    with folder_lock(out):
+        return _build_locked(plan, out, fmts, force, pictures, verbose, progress)
+
+
+def _build_locked(plan: Plan, out: Path, fmts, force: bool, pictures: bool, verbose: bool,
+                  progress: Progress) -> list[Path]:
     from ..meshing.builder import build_mesh
 
     stem = plan.case.name
@@ -80,10 +98,14 @@ def build_plan(plan: Plan, out: Path, fmts, force: bool = False, pictures: bool 
             [f"{p}: exists; use --force to overwrite" for p in existing[:5]]
             + ([f"... and {len(existing) - 5} more"] if len(existing) > 5 else [])
         )
-    out.mkdir(parents=True, exist_ok=True)
+    unwritable = _unwritable(targets)
+    if unwritable:
+        raise InputError(unwritable)
     clean_stale(out)
     progress(f"building {plan.cell_count:,} cells ({plan.case.name}, level {plan.level})")
     mesh = build_mesh(plan, verbose=verbose)
+    # From here on the folder no longer holds one finished build, whatever happens next.
+    (out / "plan.json").unlink(missing_ok=True)
     written: list[Path] = []
     for f in fmts:
         progress(f"writing {f.name}")
@@ -92,7 +114,7 @@ def build_plan(plan: Plan, out: Path, fmts, force: bool = False, pictures: bool 
     written += extra
     d = plan.to_dict()
     d["files"] = [str(p.relative_to(out)) for p in written]
-    written.append(write_text(out / "plan.json", json.dumps(d, indent=2) + "\n"))
+    written.append(write_text(out / "plan.json", dumps(d, what=str(out / "plan.json")) + "\n"))
     return written
 
 
@@ -126,7 +148,7 @@ def _after_build_hooks(plan: Plan, mesh, out: Path, pictures: bool, progress: Pr
 
     sheet = bc_sheet(plan)
     written = [
-        write_text(out / "bc.json", json.dumps(sheet, indent=2) + "\n"),
+        write_text(out / "bc.json", dumps(sheet, what=str(out / "bc.json")) + "\n"),
         write_text(out / "bc.md", bc_markdown(sheet)),
     ]
     progress("quality report")
@@ -137,7 +159,7 @@ def _after_build_hooks(plan: Plan, mesh, out: Path, pictures: bool, progress: Pr
 
         progress("pictures")
         pics = make_pictures(mesh, report, plan.case.name, out)
-    written.append(write_text(out / "quality.json", json.dumps(report, indent=2) + "\n"))
+    written.append(write_text(out / "quality.json", dumps(report, what=str(out / "quality.json")) + "\n"))
     written.append(write_text(out / "report.md", quality_markdown(report, plan.case.name, pics)))
     return written + pics
 

@@ -33,6 +33,7 @@ from typing import Any
 
 import numpy as np
 
+from ..core import jsontext
 from ..core.errors import InputError
 from ..io.atomic import write_text
 
@@ -93,7 +94,7 @@ def canonical(obj: Any) -> Any:
 
 def dumps(obj: Any) -> str:
     """Reproducible JSON text: canonical values, sorted keys, a final newline."""
-    return json.dumps(canonical(obj), sort_keys=True, indent=2, allow_nan=False) + "\n"
+    return jsontext.dumps(canonical(obj), sort_keys=True) + "\n"
 
 
 def fingerprint(obj: Any) -> str:

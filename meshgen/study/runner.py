@@ -40,6 +40,7 @@ from pathlib import Path
 from typing import Any, TextIO
 
 from ..core.errors import InputError
+from ..io.lock import folder_lock
 from .manifest import CREATED, files_match, read_manifest, utc_now, write_manifest
 from .members import Member, RunReport, Study, _describe, _worker_main, attempt_serialised
 from .progress import ProgressBar
@@ -221,6 +222,12 @@ def run_study(study: Study, root: str | Path, workers: int = 1, force: bool = Fa
     if workers < 1:
         raise InputError(f"--workers {workers}: must be 1 or more")
     root = Path(root).resolve()  # absolute: the workers may run in another folder or machine
+    with folder_lock(root):  # the whole run; each member locks its own sub-folder
+        return _run_locked(study, root, workers, force, scheduler, stream)
+
+
+def _run_locked(study: Study, root: Path, workers: int, force: bool, scheduler: str | None,
+                stream: TextIO | None) -> RunReport:
     entries, todo, skipped = _triage(study, root, force)
     client = connect(scheduler) if scheduler and todo else None
     manifest_path = root / study.manifest_name

@@ -67,6 +67,8 @@ def test_ctrl_c_stops_with_130_and_no_partial_files(tmp_path):
     assert proc.returncode == 130, err.decode()
     assert time.monotonic() - t0 < 20  # promptly
     assert b"Traceback" not in err
+    if not out.exists():
+        return  # the build created the folder and wrote nothing into it: removed
     assert not [p for p in out.iterdir() if p.name.startswith(TMP_PREFIX)]
     assert not (out / "plan.json").exists()
     _complete_or_absent(out)

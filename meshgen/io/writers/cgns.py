@@ -323,8 +323,11 @@ def _write(mesh: Mesh, target: Path, single: bool) -> list[Path]:
         if g.facets.shape[0] == 0:
             raise WriteError(f"group {g.name!r} has no facets; a CGNS boundary condition needs at least one")
     # HDF5 1.8 object formats, as the CGNS library itself writes (its V18 bounds), so
-    # that readers built on older HDF5 releases open the file.
-    with atomic_file(target) as tmp, h5py.File(tmp, "w", libver=("v108", "v108"), track_order=True) as f:
+    # that readers built on older HDF5 releases open the file. HDF5 writes through a Python
+    # file object: with a path, a short write (EFBIG, ENOSPC) surfaced in h5py's object
+    # deallocation and the process died with SIGSEGV (h5py 3.16, HDF5 2.0, ulimit -f).
+    with atomic_file(target) as tmp, open(tmp, "w+b") as fh, \
+            h5py.File(fh, "w", libver=("v108", "v108"), track_order=True) as f:
         tree = _Tree(h5py, f)
         tree.root()
         if mesh.shape is None or single:

@@ -25,7 +25,6 @@ CGNS writer: both describe a group as node ranges of the structured blocks.
 
 from __future__ import annotations
 
-import json
 from dataclasses import dataclass
 from itertools import pairwise
 from pathlib import Path
@@ -33,6 +32,7 @@ from pathlib import Path
 import numpy as np
 
 from ...core.errors import WriteError
+from ...core.jsontext import dumps
 from ...meshing.mesh import Mesh
 from ...planning.layout import Block, Patch
 from ..atomic import atomic_file, write_text
@@ -247,7 +247,7 @@ def write(mesh: Mesh, out_dir: Path, stem: str) -> list[Path]:
             if mesh.dim == 2:
                 xyz[2] = 0.0  # the documented variant: a 2-D grid lies in z = 0
             _record(f, xyz)
-    write_text(json_path, json.dumps(meta, indent=1) + "\n")
+    write_text(json_path, dumps(meta, indent=1, what=str(json_path)) + "\n")
     return [grid_path, json_path]
 
 
