@@ -22,6 +22,10 @@ from meshgen.io.lock import folder_lock
 BIG = ["--set", "streamwise.max_spacing=0.0006", "--set", "streamwise.far_spacing=0.002",
        "--set", "wall.growth_ratio=1.02", "--set", "wall.max_spacing=0.02"]
 RE = ["--set", "flow.fluid=", "--set", "flow.velocity=", "--set", "flow.reynolds=1e6"]
+#: A build that imports everything first, then waits for a line on stdin before it runs.
+WAIT_THEN_RUN = ("import sys\nfrom meshgen.cli import main\nimport meshgen.pipeline.build, meshgen.planning.plan, "
+                 "meshgen.meshing.builder, meshgen.io.writers, meshgen.reports.quality\n"
+                 "sys.stdin.readline()\nsys.exit(main(sys.argv[1:]))\n")
 
 
 def _wait_for_temp(out: Path, proc: subprocess.Popen, timeout: float = 120.0) -> bool:
@@ -35,21 +39,25 @@ def _wait_for_temp(out: Path, proc: subprocess.Popen, timeout: float = 120.0) ->
 
 def test_a_second_build_while_the_first_writes(tmp_path):
     out = tmp_path / "o"
+    # The second process is started first and waits with meshgen imported, so that it
+    # runs while the first one is writing, not a second later.
+    second = subprocess.Popen([sys.executable, "-c", WAIT_THEN_RUN, "build", *RE, "--set", 'name="second"',
+                               "-o", str(out), "--format", "msh", "--no-pictures", "--force"],
+                              stdin=subprocess.PIPE, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
     first = subprocess.Popen([sys.executable, "-m", "meshgen", "build", *RE, *BIG, "--set", 'name="first"',
-                              "-o", str(out), "--format", "msh", "--no-pictures"],
+                              "-o", str(out), "--format", "msh", "--format", "vtu", "--format", "su2",
+                              "--no-pictures"],
                              stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, text=True)
     assert _wait_for_temp(out, first), "the first build never started writing"
-    second = subprocess.run([sys.executable, "-m", "meshgen", "build", *RE, "--set", 'name="second"',
-                             "-o", str(out), "--format", "msh", "--no-pictures", "--force"],
-                            capture_output=True, text=True, timeout=300, check=False)
+    _, second_err = second.communicate("go\n", timeout=300)
     _, err = first.communicate(timeout=300)
     assert first.returncode == 0, err
-    assert second.returncode == 2, second.stderr
-    (line,) = [ln for ln in second.stderr.splitlines() if ln.strip()]
+    assert second.returncode == 2, second_err
+    (line,) = [ln for ln in second_err.splitlines() if ln.strip()]
     assert line.startswith("error:") and str(out) in line and f"process {first.pid}" in line, line
     # only the first case's files, whole
     assert sorted(p.name for p in out.iterdir()) == sorted(
-        ["first.msh", "bc.json", "bc.md", "quality.json", "report.md", "plan.json"])
+        ["first.msh", "first.vtu", "first.su2", "bc.json", "bc.md", "quality.json", "report.md", "plan.json"])
     assert json.loads((out / "plan.json").read_text())["case"] == "first"
     meshio.read(out / "first.msh", file_format="gmsh")
 
