@@ -73,7 +73,8 @@ def _size(path: Path) -> int:
 
 
 def _formats():
-    """Every registered format, with the modules that may register more imported first."""
+    """Every registered mesh format (not the solver set-up ones), with the modules that may
+    register more imported first."""
     import importlib
 
     from ..io.writers import FORMATS
@@ -83,4 +84,4 @@ def _formats():
             importlib.import_module(f"meshgen.writers.{name}")
         except ImportError:
             pass  # not written yet: the registry lists what exists
-    return dict(FORMATS)
+    return {n: f for n, f in FORMATS.items() if not f.setup}

@@ -168,8 +168,8 @@ def build(plan: Plan, verbose: bool = False) -> BuiltMesh:
     Raises MeshError when the mesh differs from the plan in any checked way (node and
     cell counts, grid points, cells, groups, first wall spacing).
     """
-    from ..meshing.builder import build_mesh
+    from .build import verified_mesh
 
     if not isinstance(plan, Plan):
         raise InputError(f"build: expected a Plan (from meshgen.plan(case)), got {type(plan).__name__}")
-    return BuiltMesh(build_mesh(plan, verbose=verbose), plan)
+    return BuiltMesh(verified_mesh(plan, verbose), plan)

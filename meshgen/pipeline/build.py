@@ -75,6 +75,17 @@ def planned_outputs(out: Path, stem: str, fmts) -> list[Path]:
     return paths + [out / name for name in REPORT_FILES]
 
 
+def verified_mesh(plan: Plan, verbose: bool = False):
+    """The verified Mesh of ``plan``, carrying its boundary-condition sheet in
+    ``meta["boundary_conditions"]`` for the solver set-up writers (foam-setup, su2-setup)."""
+    from ..meshing.builder import build_mesh
+    from ..reports.bc_sheet import bc_sheet
+
+    mesh = build_mesh(plan, verbose=verbose)
+    mesh.meta["boundary_conditions"] = bc_sheet(plan)  # the mesh was made just now: no one else holds it
+    return mesh
+
+
 def build_plan(plan: Plan, out: Path, fmts, force: bool = False, pictures: bool = True,
                verbose: bool = False, progress: Progress = _quiet) -> list[Path]:
     """Build and write one plan into ``out``; return the files written.
@@ -88,7 +99,6 @@ def build_plan(plan: Plan, out: Path, fmts, force: bool = False, pictures: bool 
 
 def _build_locked(plan: Plan, out: Path, fmts, force: bool, pictures: bool, verbose: bool,
                   progress: Progress) -> list[Path]:
-    from ..meshing.builder import build_mesh
 
     stem = plan.case.name
     targets = planned_outputs(out, stem, fmts)
@@ -103,7 +113,7 @@ def _build_locked(plan: Plan, out: Path, fmts, force: bool, pictures: bool, verb
         raise InputError(unwritable)
     clean_stale(out)
     progress(f"building {plan.cell_count:,} cells ({plan.case.name}, level {plan.level})")
-    mesh = build_mesh(plan, verbose=verbose)
+    mesh = verified_mesh(plan, verbose)
     # From here on the folder no longer holds one finished build, whatever happens next.
     (out / "plan.json").unlink(missing_ok=True)
     written: list[Path] = []

@@ -24,6 +24,7 @@ class Format:
     solvers: str  # which programs read it, for the README and `--help`
     outputs: Callable[[Path, str], list[Path]]  # the paths write() will create
     write: WriteFn
+    setup: bool = False  # a solver set-up beside the mesh (foam-setup, su2-setup), not a mesh file
 
 
 FORMATS: dict[str, Format] = {}
