@@ -308,3 +308,19 @@ def bounds(mesh: Mesh) -> tuple[np.ndarray, np.ndarray]:
         xy = mesh.base.points[:, :2]
         return (np.append(xy.min(axis=0), mesh.z.min()), np.append(xy.max(axis=0), mesh.z.max()))
     return mesh.points.min(axis=0), mesh.points.max(axis=0)
+
+
+def grid_planes(mesh: Mesh, axis: int, k0: int, k1: int, i0: int = 0, i1: int | None = None) -> np.ndarray:
+    """Coordinate ``axis`` (0 x, 1 y, 2 z) [m] of the nodes of planes k0 <= k < k1 and
+    columns i0 <= i < i1 of a structured mesh, shape (k1 - k0, nj, i1 - i0); a 2-D mesh
+    is its one plane k = 0. A view of the points, or for a lazy extrusion a broadcast of
+    its base or planes: nothing of the 3-D size is built (copy it to write it)."""
+    ni, nj = mesh.shape[0], mesh.shape[1]
+    i1 = ni if i1 is None else i1
+    if not isinstance(mesh, ExtrudedMesh) or mesh.built():
+        nk = mesh.shape[2] if len(mesh.shape) == 3 else 1
+        return mesh.points.reshape(nk, nj, ni, 3)[k0:k1, :, i0:i1, axis]
+    shape = (k1 - k0, nj, i1 - i0)
+    if axis == 2:
+        return np.broadcast_to(mesh.z[k0:k1, None, None], shape)
+    return np.broadcast_to(mesh.base.points.reshape(nj, ni, 3)[None, :, i0:i1, axis], shape)

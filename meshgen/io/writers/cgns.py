@@ -56,12 +56,14 @@ HDF5 layer (ADFH) creates them; checked by ``cgnscheck`` (Debian ``cgns-convert`
 from __future__ import annotations
 
 import sys
+from collections.abc import Iterable
+from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
 
 from ...core.errors import WriteError
-from ...meshing.mesh import Mesh, span_boundary
+from ...meshing.mesh import Mesh, cell_blocks, grid_planes, point_blocks, span_boundary
 from ..atomic import atomic_file
 from .plot3d import grid_blocks, grid_shape, group_pieces
 from .registry import Format, register
@@ -124,6 +126,20 @@ def _check_name(name: str, what: str) -> str:
     return name
 
 
+#: Values per piece of a dataset written piece by piece (``Pieces``): 32 MB of float64.
+PIECE_VALUES = 1 << 22
+
+
+@dataclass(frozen=True)
+class Pieces:
+    """A node's data written into its dataset piece by piece: the dataset's shape and
+    type, and (index, array) pairs that fill it, so no array of its size is held."""
+
+    shape: tuple[int, ...]
+    dtype: str
+    pieces: Iterable[tuple[object, np.ndarray]]
+
+
 class _Tree:
     """Writes CGNS nodes into an open h5py file."""
 
@@ -137,7 +153,11 @@ class _Tree:
         _str_attr(self.h5py, g, "label", label, NAME_LENGTH + 1)
         _str_attr(self.h5py, g, "type", dtype, 3)
         g.attrs.create("flags", FLAGS)
-        if data is not None:
+        if isinstance(data, Pieces):
+            ds = g.create_dataset(" data", shape=data.shape, dtype=data.dtype)
+            for index, a in data.pieces:
+                ds[index] = a
+        elif data is not None:
             g.create_dataset(" data", data=data)
         return g
 
@@ -182,10 +202,11 @@ class _Tree:
             self.text(fam, "FamilyBC", "FamilyBC_t", _bc_type(g.role, g.name, span_boundary(mesh)))
         return base
 
-    def coordinates(self, zone, arrays: dict[str, np.ndarray]) -> None:
+    def coordinates(self, zone, arrays: dict[str, np.ndarray | Pieces]) -> None:
         gc = self.node(zone, "GridCoordinates", "GridCoordinates_t")
         for name, a in arrays.items():
-            arr = self.node(gc, name, "DataArray_t", "R8", np.ascontiguousarray(a, dtype=np.float64))
+            data = a if isinstance(a, Pieces) else np.ascontiguousarray(a, dtype=np.float64)
+            arr = self.node(gc, name, "DataArray_t", "R8", data)
             # Mass, length, time, temperature, angle: a coordinate is a length [m].
             self.node(arr, "DimensionalExponents", "DimensionalExponents_t", "R4",
                       np.array([0, 1, 0, 0, 0], dtype=np.float32))
@@ -231,23 +252,19 @@ def _zone_names(mesh: Mesh, blocks) -> list[str]:
 
 
 def _write_structured(tree: _Tree, mesh: Mesh) -> None:
-    ni, nj, nk = grid_shape(mesh)
+    _, nj, nk = grid_shape(mesh)
     dim = mesh.dim
     blocks = grid_blocks(mesh)
     pieces = group_pieces(mesh)
     base = tree.base(mesh, dim, dim)
     zones = _zone_names(mesh, blocks)
-    grid = mesh.points.reshape(nk, nj, ni, 3)
     axes = ("CoordinateX", "CoordinateY", "CoordinateZ")[:dim]
     for bi, (b, zname) in enumerate(zip(blocks, zones, strict=True)):
         nib = b.i1 - b.i0 + 1
         nodes = [nib, nj, nk][:dim]
         zone = tree.ints(base, zname, "Zone_t", [nodes, [n - 1 for n in nodes], [0] * dim])
         tree.text(zone, "ZoneType", "ZoneType_t", "Structured")
-        sub = grid[:, :, b.i0 : b.i1 + 1, :]
-        if dim == 2:
-            sub = sub[0]  # (nj, nib, 3): reversed CGNS dimensions (nib, nj)
-        tree.coordinates(zone, {name: sub[..., c] for c, name in enumerate(axes)})
+        tree.coordinates(zone, {name: _block_coordinate(mesh, c, b) for c, name in enumerate(axes)})
         zbc = tree.node(zone, "ZoneBC", "ZoneBC_t")
         taken: set[str] = set()
         for pc in (p for p in pieces if p.block == bi):
@@ -269,6 +286,45 @@ def _write_structured(tree: _Tree, mesh: Mesh) -> None:
                 tree.int4(conn, "Transform", '"int[IndexDimension]"', list(range(1, dim + 1)))
 
 
+def _block_coordinate(mesh: Mesh, axis: int, b) -> Pieces:
+    """One coordinate of a block, (nk, nj, nib) in 3-D (reversed CGNS dimensions (nib, nj,
+    nk)), (nj, nib) in 2-D, in pieces of whole node planes."""
+    _, nj, nk = grid_shape(mesh)
+    nib = b.i1 - b.i0 + 1
+    if mesh.dim == 2:
+        return Pieces((nj, nib), "<f8", [(Ellipsis, grid_planes(mesh, axis, 0, 1, b.i0, b.i1 + 1)[0])])
+    step = max(1, PIECE_VALUES // (nj * nib))
+    return Pieces((nk, nj, nib), "<f8", ((slice(k, min(k + step, nk)),
+                                         grid_planes(mesh, axis, k, min(k + step, nk), b.i0, b.i1 + 1))
+                                        for k in range(0, nk, step)))  # slabs of planes
+
+
+def _point_coordinate(mesh: Mesh, axis: int) -> Pieces:
+    """Coordinate ``axis`` of every node, in node order, block by block."""
+    step = max(1, PIECE_VALUES // 3)
+
+    def pieces():
+        for s, p in zip(range(0, mesh.n_points, step), point_blocks(mesh, step)):
+            yield slice(s, s + p.shape[0]), p[:, axis]
+
+    return Pieces((mesh.n_points,), "<f8", pieces())
+
+
+def _connectivity(mesh: Mesh) -> Pieces:
+    """The cells' 1-based node ids, flat, I4 when they fit (as ``_ints``), block by block."""
+    dtype = "<i4" if mesh.n_points < 2**31 else "<i8"
+    k = 4 if mesh.dim == 2 else 8
+    step = max(1, PIECE_VALUES // k)
+
+    def pieces():
+        start = 0
+        for c in cell_blocks(mesh, step):
+            yield slice(start, start + c.size), (c + 1).ravel()
+            start += c.size
+
+    return Pieces((mesh.n_cells * k,), dtype, pieces())
+
+
 def _write_unstructured(tree: _Tree, mesh: Mesh) -> None:
     dim = mesh.dim
     base = tree.base(mesh, dim, dim)
@@ -276,17 +332,21 @@ def _write_unstructured(tree: _Tree, mesh: Mesh) -> None:
     zone = tree.ints(base, zname, "Zone_t", [[mesh.n_points], [mesh.n_cells], [0]])
     tree.text(zone, "ZoneType", "ZoneType_t", "Unstructured")
     axes = ("CoordinateX", "CoordinateY", "CoordinateZ")[:dim]
-    tree.coordinates(zone, {name: mesh.points[:, c] for c, name in enumerate(axes)})
-    sections = [(mesh.cell_group, mesh.cell_type, mesh.cells)]
+    tree.coordinates(zone, {name: _point_coordinate(mesh, c) for c, name in enumerate(axes)})
+    sections = [(mesh.cell_group, mesh.cell_type, None)]
     sections += [(g.name, mesh.facet_type, g.facets) for g in mesh.groups]
     taken: set[str] = set()
     first = 1
     ranges = []
     for name, kind, conn in sections:  # elements numbered 1.. across sections, cells first
-        last = first + conn.shape[0] - 1
+        last = first + (mesh.n_cells if conn is None else conn.shape[0]) - 1
         sec = tree.int4(zone, _unique(name, taken), "Elements_t", [ELEMENT_TYPE[kind], 0])
         tree.ints(sec, "ElementRange", "IndexRange_t", [first, last])
-        tree.ints(sec, "ElementConnectivity", "DataArray_t", (conn + 1).ravel())
+        if conn is None:  # the cells, block by block
+            code = "I4" if mesh.n_points < 2**31 else "I8"
+            tree.node(sec, "ElementConnectivity", "DataArray_t", code, _connectivity(mesh))
+        else:
+            tree.ints(sec, "ElementConnectivity", "DataArray_t", (conn + 1).ravel())
         ranges.append((first, last))
         first = last + 1
     zbc = tree.node(zone, "ZoneBC", "ZoneBC_t")
