@@ -324,3 +324,22 @@ def grid_planes(mesh: Mesh, axis: int, k0: int, k1: int, i0: int = 0, i1: int | 
     if axis == 2:
         return np.broadcast_to(mesh.z[k0:k1, None, None], shape)
     return np.broadcast_to(mesh.base.points.reshape(nj, ni, 3)[None, :, i0:i1, axis], shape)
+
+
+def plane_grid(mesh: Mesh, k: int = 0) -> np.ndarray:
+    """The nodes of plane ``k`` of a structured mesh as a (nj, ni, 3) array [m] (a copy)."""
+    return np.stack([grid_planes(mesh, a, k, k + 1)[0] for a in range(3)], axis=-1)
+
+
+def plane_slab(mesh: Mesh, k0: int, k1: int) -> Mesh:
+    """Node planes k0 <= k < k1 (k1 - k0 >= 2) of a structured 3-D tensor grid and the cell
+    layers between them as a Mesh of their own (nodes and cells renumbered from 0, shape
+    (ni, nj, k1 - k0), no groups): the same coordinates and corners, so every per-cell
+    figure computed on it is bit for bit the one of the whole mesh."""
+    ni, nj = mesh.shape[0], mesh.shape[1]
+    n2, m2 = ni * nj, (ni - 1) * (nj - 1)
+    if isinstance(mesh, ExtrudedMesh) and not mesh.built():
+        points, cells = mesh.plane_points(k0, k1), mesh.layer_cells(0, k1 - k0 - 1)
+    else:
+        points, cells = mesh.points[k0 * n2:k1 * n2], mesh.cells[k0 * m2:(k1 - 1) * m2] - k0 * n2
+    return Mesh(points, cells, (), shape=(ni, nj, k1 - k0), blocks=mesh.blocks, cell_group=mesh.cell_group)

@@ -233,7 +233,12 @@ def _structured_offsets(shape: tuple[int, ...]) -> np.ndarray:
 
 
 def is_tensor_grid(mesh: Mesh) -> bool:
-    """True when the cells are exactly the tensor-product cells of ``mesh.shape``."""
+    """True when the cells are exactly the tensor-product cells of ``mesh.shape``.
+
+    A lazy extrusion is one exactly when its base is (layer k's cells are the base's
+    shifted by k planes), so its hexahedra are not built for this."""
+    if isinstance(mesh, ExtrudedMesh) and not mesh.built():
+        return mesh.shape is not None and min(mesh.shape) >= 2 and is_tensor_grid(mesh.base)
     shape = mesh.shape
     if shape is None or len(shape) != mesh.dim or min(shape) < 2:
         return False

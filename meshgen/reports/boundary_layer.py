@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..core.errors import InputError
-from ..meshing.mesh import Mesh
+from ..meshing.mesh import Mesh, plane_grid
 from ..physics.correlations import (
     CORRELATIONS,
     DEFAULT_CORRELATION,
@@ -44,8 +44,7 @@ def _check_flow(mesh: Mesh, wall_group: str, velocity: float, nu: float, regime:
 
 def _wall_columns(mesh: Mesh, wall_group: str) -> tuple[np.ndarray, np.ndarray] | str:
     """Node grid of the first z layer (nj, ni, 3) and the wall's i indices, or why not."""
-    grid = mesh.grid()
-    grid = grid[0] if mesh.dim == 3 else grid
+    grid = plane_grid(mesh)
     nj, ni = grid.shape[:2]
     nodes = np.unique(mesh.group(wall_group).facets)
     nodes = nodes[nodes < ni * nj]  # the k = 0 layer

@@ -22,7 +22,7 @@ from pathlib import Path
 import numpy as np
 
 from ..io.atomic import atomic_file
-from ..meshing.mesh import Mesh
+from ..meshing.mesh import Mesh, bounds, node_coordinates, plane_grid
 from .structure import recover_structure
 
 DPI = 100
@@ -76,8 +76,7 @@ def _layer(mesh: Mesh) -> np.ndarray | None:
     """(nj, ni, 2) node grid of the first z layer, or None when not structured."""
     if mesh.shape is None:
         return None
-    g = mesh.grid()
-    return (g[0] if mesh.dim == 3 else g)[..., :2]
+    return plane_grid(mesh)[..., :2]
 
 
 def _thinned(n: int, limit: int) -> tuple[np.ndarray, int]:
@@ -118,15 +117,14 @@ def _edge_lines(ax, mesh: Mesh) -> None:
 
 def _group_segments(mesh: Mesh, facets: np.ndarray) -> np.ndarray:
     """(n, 2, 2) line segments of a group in the drawing plane (z = z_min in 3-D)."""
-    p = mesh.points
     if mesh.dim == 2:
-        return p[facets][..., :2]
+        return node_coordinates(mesh, facets)[..., :2]
     edges = facets[:, [0, 1, 1, 2, 2, 3, 3, 0]].reshape(-1, 2)
-    z0 = p[:, 2].min()
-    flat = np.isclose(p[edges, 2], z0).all(axis=1)
-    if np.all(np.isclose(p[facets, 2], z0)):  # the whole group lies in the plane (back face)
+    z0 = bounds(mesh)[0][2]
+    p = node_coordinates(mesh, edges)
+    if np.all(np.isclose(p[..., 2], z0)):  # the whole group lies in the plane (back face)
         return np.empty((0, 2, 2))
-    return p[edges[flat]][..., :2]
+    return p[np.isclose(p[..., 2], z0).all(axis=1)][..., :2]
 
 
 def _groups(ax, mesh: Mesh, labelled: bool = True) -> list[str]:
@@ -189,7 +187,7 @@ def mesh_figure(mesh: Mesh, report: dict, case_name: str):
     """The mesh picture as a matplotlib Figure (structured meshes get the zoom)."""
     fig, (ax, zx) = _figure(nrows=2, height_ratios=[1.25, 1])
     grid = _layer(mesh)
-    lo, hi = mesh.points.min(axis=0), mesh.points.max(axis=0)
+    lo, hi = bounds(mesh)
     note = ""
     if grid is not None:
         nj, ni = grid.shape[:2]

@@ -14,7 +14,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..meshing.mesh import Mesh
+from ..meshing.mesh import ExtrudedMesh, Mesh, bounds, grid_planes, plane_slab
 from ..meshing.verify import is_tensor_grid
 from .cell_metrics import VERDICT, _chunks, _hex_centre, _hex_corner_min, cell_metrics
 from .structure import _structured_angles, growth_ratios, non_orthogonality, recover_structure
@@ -57,16 +57,20 @@ def exact_layers(mesh: Mesh) -> np.ndarray | None:
         return None
     if not is_tensor_grid(mesh):
         return None
-    ni, nj, nk = mesh.shape
-    planes = mesh.points.reshape(nk, ni * nj, 3)
-    z = planes[:, 0, 2].copy()
-    base = planes[0, :, :2]
-    step = max(1, (1 << 20) // (ni * nj))  # node planes per block
-    for k0 in range(0, nk, step):  # blocks of planes, not nodes
-        block = planes[k0:k0 + step]
-        if not (np.array_equal(block[:, :, :2], np.broadcast_to(base, block[:, :, :2].shape))
-                and np.array_equal(block[:, :, 2], np.broadcast_to(z[k0:k0 + step, None], block[:, :, 2].shape))):
-            return None
+    if isinstance(mesh, ExtrudedMesh) and not mesh.built():
+        z = mesh.z  # exact by construction: every plane is the base at one z
+    else:
+        ni, nj, nk = mesh.shape
+        planes = mesh.points.reshape(nk, ni * nj, 3)
+        z = planes[:, 0, 2].copy()
+        base = planes[0, :, :2]
+        step = max(1, (1 << 20) // (ni * nj))  # node planes per block
+        for k0 in range(0, nk, step):  # blocks of planes, not nodes
+            block = planes[k0:k0 + step]
+            if not (np.array_equal(block[:, :, :2], np.broadcast_to(base, block[:, :, :2].shape))
+                    and np.array_equal(block[:, :, 2], np.broadcast_to(z[k0:k0 + step, None],
+                                                                        block[:, :, 2].shape))):
+                return None
     dz = np.diff(z)
     if dz.min() <= 0 or dz.max() - dz.min() > 8 * np.finfo(float).eps * np.abs(z).max():
         return None
@@ -75,18 +79,21 @@ def exact_layers(mesh: Mesh) -> np.ndarray | None:
 
 def _layered_values(mesh: Mesh, dz: np.ndarray) -> tuple[dict[str, Parts], list[str]]:
     """The report's metrics of an exact extrusion (``exact_layers``) as ``Parts``: each
-    distinct layer thickness computed on its first layer, counted for all its layers."""
+    distinct layer thickness computed on its first layer, counted for all its layers.
+
+    Each layer is computed on a Mesh of its own two node planes (``plane_slab``), so the
+    whole mesh's points and hexahedra are never needed (a lazy extrusion stays lazy)."""
     ni, nj, nk = mesh.shape
     n2c, n_layers = (ni - 1) * (nj - 1), nk - 1
     thick, first, count = np.unique(dz, return_index=True, return_counts=True)
     values: dict[str, Parts] = {"scaled_jacobian": []}  # filled below, first as in cell_metrics
     notes: list[str] = []
-    comp = [np.ascontiguousarray(mesh.points[:, a]) for a in range(3)]
     corner_min = {}
     for k, w in zip(first, count):  # distinct thicknesses: a few (rounding of linspace)
-        cells = mesh.cells[k * n2c:(k + 1) * n2c]
-        v, notes = cell_metrics(Mesh(mesh.points, cells, ()))
-        corner_min[dz[k]] = np.concatenate([_hex_corner_min(comp, cells[s:e]) for s, e in _chunks(n2c)])
+        layer = plane_slab(mesh, k, k + 2)
+        comp = [np.ascontiguousarray(layer.points[:, a]) for a in range(3)]
+        v, notes = cell_metrics(Mesh(layer.points, layer.cells, ()))
+        corner_min[dz[k]] = np.concatenate([_hex_corner_min(comp, layer.cells[s:e]) for s, e in _chunks(n2c)])
         values.setdefault("volume", []).append((v["volume"], int(w)))  # base area x dz
         for key in ("aspect_ratio", "edge_ratio", "skew"):  # the base face's: the same every layer
             if key in v and key not in values:
@@ -94,27 +101,27 @@ def _layered_values(mesh: Mesh, dz: np.ndarray) -> tuple[dict[str, Parts], list[
     # The corner Jacobians see a layer only through dz; the centre one also through the
     # z components of its principal axes, sums of the plane z (rounding differs from
     # layer to layer), so it is computed once per distinct (dz, axes' z) of the layers.
-    z = mesh.points[::ni * nj, 2]
+    z = grid_planes(mesh, 2, 0, nk)[:, 0, 0]
     b, t = z[:-1], z[1:]
     side = b + b + t + t - b - b - t - t  # z of X1 and of X2: node order of _hex_centre
     key = np.stack([dz, side, t + t + t + t - b - b - b - b], axis=1)
     _, first_k, count_k = np.unique(key, axis=0, return_index=True, return_counts=True)
     for k, w in zip(first_k, count_k):  # distinct layer keys: a few tens at most
-        cells = mesh.cells[k * n2c:(k + 1) * n2c]
-        centre = np.concatenate([_hex_centre(comp, cells[s:e]) for s, e in _chunks(n2c)])
+        layer = plane_slab(mesh, k, k + 2)
+        comp = [np.ascontiguousarray(layer.points[:, a]) for a in range(3)]
+        centre = np.concatenate([_hex_centre(comp, layer.cells[s:e]) for s, e in _chunks(n2c)])
         values["scaled_jacobian"].append((np.minimum(corner_min[dz[k]], centre), int(w)))
-    two = Mesh(mesh.points[:2 * ni * nj], mesh.cells[:n2c], (), shape=(ni, nj, 2))
-    for axis, r in growth_ratios(two).items():
+    for axis, r in growth_ratios(plane_slab(mesh, 0, 2)).items():
         if axis != "k":
             values[f"growth_ratio_{axis}"] = [(r, n_layers)]
     # Along k every cell of a layer has size dz exactly (its xy edges have zero length).
     values["growth_ratio_k"] = [(np.maximum(dz[1:], dz[:-1]) / np.minimum(dz[1:], dz[:-1]), n2c)]
     angles: Parts = []
     for k, w in zip(first, count):
-        for a in _structured_angles(mesh, k * n2c, (k + 1) * n2c, (0, 1)):
+        for a in _structured_angles(plane_slab(mesh, k, k + 2), 0, n2c, (0, 1)):
             angles.append((a, int(w)))
     # k faces: normal along z from the base xy, centre line along z: the same every layer.
-    angles.append((_structured_angles(mesh, 0, n2c, (2,))[0], n_layers - 1))
+    angles.append((_structured_angles(plane_slab(mesh, 0, 3), 0, n2c, (2,))[0], n_layers - 1))
     values["non_orthogonality"] = angles
     notes.append(f"exact z-extrusion of {n_layers} uniform layers: metrics computed on one layer "
                  f"per distinct layer thickness ({thick.size}, differing only by the rounding of the "
@@ -193,7 +200,7 @@ def summarise(name: str, values: np.ndarray | Parts) -> dict:
 
 def _streamwise_spacing(mesh: Mesh) -> dict:
     """Node intervals [m] along the first grid row (j = 0, k = 0) and their growth."""
-    row = mesh.grid()[(0,) * (mesh.dim - 1)]  # (ni, 3)
+    row = np.stack([grid_planes(mesh, a, 0, 1)[0, 0] for a in range(3)], axis=1)  # (ni, 3)
     dx = np.linalg.norm(np.diff(row, axis=0), axis=1)
     return {"x_m": [float(v) for v in row[:, 0]], "spacing_m": [float(v) for v in dx],
             "growth_ratio": [float(v) for v in np.maximum(dx[1:], dx[:-1]) / np.minimum(dx[1:], dx[:-1])]}
@@ -228,7 +235,7 @@ def quality_report(mesh: Mesh, boundary_layer: dict | None = None) -> dict:
     if inverted:
         errors.append(f"{inverted} inverted cells (negative scaled Jacobian)")
     notes.append(ANISOTROPY_NOTE)
-    lo, hi = np.min(mesh.points, axis=0), np.max(mesh.points, axis=0)
+    lo, hi = bounds(mesh)
     report = {
         "mesh": {"dim": mesh.dim, "cell_type": mesh.cell_type, "n_points": mesh.n_points,
                  "n_cells": mesh.n_cells, "groups": mesh.group_sizes(),
