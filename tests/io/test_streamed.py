@@ -3,11 +3,12 @@ same bytes as the same mesh held whole, also when the pieces are tiny (many slab
 
 import dataclasses
 
+import meshio
 import numpy as np
 import pytest
 from samples import BLOCKS, GROUPS
 
-from meshgen.io.writers import FORMATS, cgns, msh
+from meshgen.io.writers import FORMATS, cgns, msh, vtu
 from meshgen.meshing.mesh import ExtrudedMesh, Mesh, extrude, structured_mesh
 
 Z = np.array([0.0, 0.1, 0.25, 0.3, 0.5])
@@ -33,7 +34,7 @@ def files(paths) -> dict[str, bytes]:
     return out
 
 
-STREAMED = ["msh", "msh2", "cgns"]
+STREAMED = ["msh", "msh2", "cgns", "vtu"]
 
 
 @pytest.mark.parametrize("structured", [True, False], ids=["structured", "unstructured"])
@@ -46,3 +47,21 @@ def test_lazy_mesh_written_in_tiny_pieces_gives_the_same_bytes(tmp_path, monkeyp
     assert not m.built()
     b = files(FORMATS[fmt].write(built(m), tmp_path / "built", "m"))
     assert a.keys() == b.keys() and a == b
+
+
+def test_vtu_appended_arrays_read_back_by_meshio(tmp_path):
+    """meshio's VTU reader (independent of ours) finds the points, the hexahedra and each
+    group's facets with its id, and the id-to-name field data (VTK XML appended raw data)."""
+    m = lazy()
+    (path,) = vtu.write(m, tmp_path, "m")
+    r = meshio.read(path, file_format="vtu")
+    np.testing.assert_array_equal(r.points, m.points)
+    by_type = {b.type: (b.data, np.ravel(ids)) for b, ids in zip(r.cells, r.cell_data["group_id"], strict=True)}
+    np.testing.assert_array_equal(by_type["hexahedron"][0], m.cells)
+    assert set(by_type["hexahedron"][1].tolist()) == {0}
+    quads, ids = by_type["quad"]
+    names = {int(np.asarray(v).ravel()[0]): k for k, v in r.field_data.items()}
+    assert names[0] == m.cell_group
+    for k, g in enumerate(m.groups, start=1):
+        assert names[k] == g.name
+        np.testing.assert_array_equal(quads[ids == k], g.facets)
