@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 from samples import BLOCKS, GROUPS
 
-from meshgen.io.writers import FORMATS, cgns, msh, vtu
+from meshgen.io.writers import FORMATS, cgns, msh, plot3d, vtu
 from meshgen.meshing.mesh import ExtrudedMesh, Mesh, extrude, structured_mesh
 
 Z = np.array([0.0, 0.1, 0.25, 0.3, 0.5])
@@ -34,14 +34,18 @@ def files(paths) -> dict[str, bytes]:
     return out
 
 
-STREAMED = ["msh", "msh2", "cgns", "vtu"]
+STREAMED = ["msh", "msh2", "cgns", "vtu", "plot3d"]
 
 
-@pytest.mark.parametrize("structured", [True, False], ids=["structured", "unstructured"])
-@pytest.mark.parametrize("fmt", STREAMED)
+#: (format, structured layout): Plot3D has no unstructured form.
+CASES = [(f, s) for f in STREAMED for s in (True, False) if s or f != "plot3d"]
+
+
+@pytest.mark.parametrize("fmt, structured", CASES, ids=[f"{f}-{'grid' if s else 'flat'}" for f, s in CASES])
 def test_lazy_mesh_written_in_tiny_pieces_gives_the_same_bytes(tmp_path, monkeypatch, fmt, structured):
     monkeypatch.setattr(cgns, "PIECE_VALUES", 7)  # a few values per piece: many pieces
     monkeypatch.setattr(msh, "CHUNK", 5)
+    monkeypatch.setattr(plot3d, "SLAB_VALUES", 7)
     m = lazy(structured)
     a = files(FORMATS[fmt].write(m, tmp_path / "lazy", "m"))
     assert not m.built()

@@ -33,7 +33,7 @@ import numpy as np
 
 from ...core.errors import WriteError
 from ...core.jsontext import dumps
-from ...meshing.mesh import Mesh
+from ...meshing.mesh import Mesh, grid_planes
 from ...planning.layout import Block, Patch
 from ..atomic import atomic_file, write_text
 from .registry import Format, register
@@ -230,23 +230,45 @@ def _outputs(out_dir: Path, stem: str) -> list[Path]:
     return [Path(out_dir) / f"{stem}.xyz", Path(out_dir) / f"{stem}.p3d.json"]
 
 
+#: Values per slab of a block's coordinate record: 32 MB of float64.
+SLAB_VALUES = 1 << 22
+
+
+def _block_record(f, mesh: Mesh, b: Block, nj: int, nk: int) -> None:
+    """One block's record (x, then y, then z, each i fastest) written by slabs of node
+    planes, so that no array of the block's size is held."""
+    nib = b.i1 - b.i0 + 1
+    size = 3 * nk * nj * nib * 8
+    marker = np.array([size], dtype="<i4").tobytes()
+    step = max(1, SLAB_VALUES // (nj * nib))
+    f.write(marker)
+    for axis in range(3):
+        for k in range(0, nk, step):  # slabs of planes
+            planes = grid_planes(mesh, axis, k, min(k + step, nk), b.i0, b.i1 + 1)
+            if mesh.dim == 2 and axis == 2:
+                planes = np.zeros_like(planes)  # the documented variant: a 2-D grid lies in z = 0
+            f.write(np.ascontiguousarray(planes, dtype="<f8").data)
+    f.write(marker)
+
+
 def write(mesh: Mesh, out_dir: Path, stem: str) -> list[Path]:
     """Write ``<stem>.xyz`` and ``<stem>.p3d.json`` into ``out_dir``; return both paths."""
-    ni, nj, nk = grid_shape(mesh)
+    _, nj, nk = grid_shape(mesh)
     blocks = grid_blocks(mesh)
     meta = companion(mesh, f"{stem}.xyz")  # checks the groups before anything is written
-    grid = mesh.points.reshape(nk, nj, ni, 3)
     dims = np.array([[b.i1 - b.i0 + 1, nj, nk] for b in blocks], dtype="<i4")
+    biggest = int(3 * 8 * dims.astype(np.int64).prod(axis=1).max())
+    if biggest > MAX_RECORD_BYTES:
+        raise WriteError(
+            f"a Plot3D record of {biggest} bytes exceeds the 4-byte marker limit of {MAX_RECORD_BYTES}; "
+            "split the mesh into more blocks"
+        )
     grid_path, json_path = _outputs(out_dir, stem)
     with atomic_file(grid_path) as tmp, open(tmp, "wb") as f:
         _record(f, np.array([len(blocks)], dtype="<i4"))
         _record(f, dims)
         for b in blocks:
-            xyz = np.empty((3, nk, nj, b.i1 - b.i0 + 1), dtype="<f8")
-            xyz[...] = np.moveaxis(grid[:, :, b.i0 : b.i1 + 1, :], -1, 0)
-            if mesh.dim == 2:
-                xyz[2] = 0.0  # the documented variant: a 2-D grid lies in z = 0
-            _record(f, xyz)
+            _block_record(f, mesh, b, nj, nk)
     write_text(json_path, dumps(meta, indent=1, what=str(json_path)) + "\n")
     return [grid_path, json_path]
 
