@@ -34,7 +34,7 @@ def files(paths) -> dict[str, bytes]:
     return out
 
 
-STREAMED = ["msh", "msh2", "cgns", "vtu", "plot3d"]
+STREAMED = ["msh", "msh2", "cgns", "cgns-single", "vtu", "plot3d"]
 
 
 #: (format, structured layout): Plot3D has no unstructured form.
