@@ -34,8 +34,8 @@ fluid = "Air"
 temperature = 288.15     # K
 pressure = 101325.0      # Pa
 regime = "auto"
-turbulence_intensity = 0.002
-viscosity_ratio = 1.0
+turbulence_intensity = 0.0001   # a quiet free stream, inside the SST ranges of bc.md
+viscosity_ratio = 0.01
 
 [wall]
 y_plus = 1.0

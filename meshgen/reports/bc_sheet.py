@@ -1,16 +1,25 @@
 """The boundary-condition sheet: each group's role and the free-stream values a solver needs.
 
 Turbulence inflow values come from the case's turbulence intensity Tu and viscosity ratio
-nu_t / nu (common practice):
+r = nu_t / nu (common practice):
 
     k = 1.5 (Tu U)^2            [m2/s2]
-    omega = k / (nu_t)          [1/s],   nu_t = ratio * nu
+    omega = k / nu_t            [1/s],   nu_t = r nu
     epsilon = C_mu k^2 / nu_t   [m2/s3], C_mu = 0.09
-    nu_tilde = 3 nu             [m2/s]   (Spalart-Allmaras, NASA TMR: 3 to 5 nu)
+    nu_tilde = chi nu           [m2/s],  chi from nu_t = nu_tilde fv1(chi),
+                                         fv1 = chi^3 / (chi^3 + cv1^3), cv1 = 7.1
 
-and are compared with the published recommendations for the k-omega SST model (Menter
-1993, as given on the NASA Turbulence Modeling Resource SST page):
-U/L < omega < 10 U/L and 1e-5 U^2/Re_L < k < 0.1 U^2/Re_L.
+(the last is the Spalart-Allmaras eddy viscosity, Spalart & Allmaras 1992/1994, inverted
+so that nu_tilde gives the case's viscosity ratio). Each model's values are compared with
+the published free-stream recommendations (NASA Turbulence Modeling Resource, TMR):
+k-omega SST (Menter 1993, TMR SST page) U/L < omega < 10 U/L and 1e-5 U^2/Re_L < k <
+0.1 U^2/Re_L; Spalart-Allmaras (TMR SA page) 3 nu <= nu_tilde <= 5 nu. Where a model's
+values fall outside, the sheet proposes the nearest values inside, with the reason: the
+ranges describe a quiet free stream whose turbulence neither decays much nor feeds the
+boundary layer (what a flat-plate verification wants); a case that means real free-stream
+turbulence (wind, a rough tunnel) keeps its own values and is told so. One viscosity ratio
+cannot meet both models' ranges (SST's imply r below 0.1, SA's r of 0.21 to 1.3), so a
+case usually sits in one and gets a proposal for the other.
 """
 
 from __future__ import annotations
@@ -20,6 +29,10 @@ import numpy as np
 from ..planning.plan import Plan
 
 C_MU = 0.09
+#: Spalart-Allmaras constant in fv1 = chi^3 / (chi^3 + cv1^3) (Spalart & Allmaras 1994).
+CV1 = 7.1
+#: Factor kept between a proposed value and the edge of its range (inside, not on it).
+MARGIN = {"k": 2.0, "omega": 1.25}
 
 #: What each role asks of the solver (plain trade words; the solver's own names differ).
 ROLE_CONDITIONS = {
@@ -30,9 +43,52 @@ ROLE_CONDITIONS = {
                  "far-field / characteristic condition); the default height of 10 delta99 "
                  "assumes this displacement-flow condition"),
     "symmetry": "symmetry plane (slip): ahead of and behind the plate",
-    "front": "spanwise face: empty (2-D, one layer) or symmetry / periodic (3-D)",
-    "back": "spanwise face: empty (2-D, one layer) or symmetry / periodic (3-D)",
 }
+#: The spanwise faces of a 3-D mesh, per domain.span_boundary.
+SPAN_CONDITIONS = {
+    "symmetry": "spanwise face: symmetry plane (domain.span_boundary = symmetry), the same type in every format",
+    "patch": "spanwise face: plain patch (domain.span_boundary = patch); your solver set-up gives its condition",
+}
+
+
+def sa_chi(ratio: float) -> float:
+    """chi = nu_tilde / nu whose Spalart-Allmaras eddy viscosity is ``ratio`` nu: the one
+    positive root of chi^4 - r chi^3 - r cv1^3 = 0 (nu_t = nu_tilde fv1)."""
+    roots = np.roots([1.0, -ratio, 0.0, 0.0, -ratio * CV1**3])
+    real = roots[(np.abs(roots.imag) < 1e-9 * np.abs(roots).max()) & (roots.real > 0)].real
+    return float(real.max())
+
+
+def _clip(value: float, lo: float, hi: float, margin: float) -> float:
+    return float(min(max(value, lo * margin), hi / margin))
+
+
+def _proposals(k: float, omega: float, nu_tilde: float, u: float, nu: float, rec: dict) -> dict:
+    """In-range values for each model whose case values fall outside its range, with why."""
+    out = {}
+    (k_lo, k_hi), (o_lo, o_hi), (n_lo, n_hi) = rec["k"], rec["omega"], rec["nu_tilde"]
+    quiet = ("the TMR ranges describe a quiet free stream, whose turbulence neither decays much nor "
+             "feeds the boundary layer (a flat-plate verification); keep the case's own values only "
+             "if you mean real free-stream turbulence (wind, a rough tunnel)")
+    if not (k_lo < k < k_hi and o_lo < omega < o_hi):
+        kp = _clip(k, k_lo, k_hi, MARGIN["k"])
+        op = _clip(omega, o_lo, o_hi, MARGIN["omega"])
+        out["k-omega SST"] = {
+            "k": kp, "omega": op, "turbulence_intensity": float(np.sqrt(kp / 1.5) / u),
+            "viscosity_ratio": kp / (op * nu),
+            "reason": (f"the case's Tu and nu_t/nu give k = {k:.4g} m2/s2 and omega = {omega:.4g} 1/s, not "
+                       f"inside k {k_lo:.4g} to {k_hi:.4g} and omega {o_lo:.4g} to {o_hi:.4g} "
+                       f"(Menter 1993, NASA TMR SST page); {quiet}"),
+        }
+    if not (n_lo <= nu_tilde * (1 + 1e-12) and nu_tilde <= n_hi * (1 + 1e-12)):
+        npr = float(min(max(nu_tilde, n_lo), n_hi))
+        out["Spalart-Allmaras"] = {
+            "nu_tilde": npr, "viscosity_ratio": npr / nu * (npr / nu) ** 3 / ((npr / nu) ** 3 + CV1**3),
+            "reason": (f"the case's nu_t/nu gives nu_tilde = {nu_tilde / nu:.3g} nu, outside 3 to 5 nu "
+                       "(NASA TMR SA page, for a fully turbulent run); SA's usual free stream is "
+                       "nu_tilde = 3 nu, i.e. nu_t/nu = 0.21"),
+        }
+    return out
 
 
 def turbulence_values(plan: Plan) -> dict:
@@ -42,13 +98,10 @@ def turbulence_values(plan: Plan) -> dict:
     k = 1.5 * (c.turbulence_intensity * u) ** 2
     omega = k / nu_t
     eps = C_MU * k**2 / nu_t
+    nu_tilde = sa_chi(c.viscosity_ratio) * nu
     notes = []
-    omega_lo, omega_hi = u / f.length, 10 * u / f.length
-    k_lo, k_hi = 1e-5 * u**2 / re, 0.1 * u**2 / re
-    if k > 0 and not (omega_lo < omega < omega_hi):
-        notes.append(f"omega = {omega:.4g} 1/s is outside the SST recommendation {omega_lo:.4g} to {omega_hi:.4g}")
-    if not (k_lo < k < k_hi):
-        notes.append(f"k = {k:.4g} m2/s2 is outside the SST recommendation {k_lo:.4g} to {k_hi:.4g}")
+    rec = {"omega": [u / f.length, 10 * u / f.length], "k": [1e-5 * u**2 / re, 0.1 * u**2 / re],
+           "nu_tilde": [3.0 * nu, 5.0 * nu]}
     if k == 0:
         notes.append("turbulence intensity 0 gives k = 0; most two-equation models need k > 0")
     return {
@@ -57,18 +110,18 @@ def turbulence_values(plan: Plan) -> dict:
         "k": k,
         "omega": omega,
         "epsilon": eps,
-        "nu_tilde": 3.0 * nu,
+        "nu_tilde": nu_tilde,
         "nu_t": nu_t,
         "recommended": {
-            "omega": [omega_lo, omega_hi],
-            "k": [k_lo, k_hi],
-            "nu_tilde": [3.0 * nu, 5.0 * nu],
+            **rec,
             "sources": {
                 "k-omega SST": "Menter (1993), as given on the NASA Turbulence Modeling Resource SST page",
                 "Spalart-Allmaras": "NASA Turbulence Modeling Resource, Spalart-Allmaras page",
                 "intensity form": "common practice: k = 1.5 (Tu U)^2, omega = k / nu_t",
+                "nu_tilde": "Spalart & Allmaras (1994): nu_t = nu_tilde fv1, fv1 = chi^3 / (chi^3 + 7.1^3)",
             },
         },
+        "proposed": {} if k == 0 else _proposals(k, omega, nu_tilde, u, nu, rec),
         "notes": notes,
     }
 
@@ -107,7 +160,8 @@ def bc_sheet(plan: Plan) -> dict:
         },
         "turbulence": turbulence_values(plan),
         "wall": wall_condition(plan),
-        "groups": [{"name": n, "role": r, "condition": ROLE_CONDITIONS[r]} for n, r in groups],
+        "groups": [{"name": n, "role": r, "condition": ROLE_CONDITIONS.get(r) or
+                    SPAN_CONDITIONS[plan.case.domain.span_boundary]} for n, r in groups],
         "cells": plan.case.names.fluid,
     }
 
@@ -148,6 +202,10 @@ def bc_markdown(sheet: dict) -> str:
         f"k {rec['k'][0]:.4g} to {rec['k'][1]:.4g} m2/s2 ({rec['sources']['k-omega SST']}); "
         f"nu_tilde 3 to 5 nu ({rec['sources']['Spalart-Allmaras']})."),
     ]
+    for model, p in t.get("proposed", {}).items():
+        values = ", ".join(f"{key} = {p[key]:.4g}" for key in ("k", "omega", "nu_tilde", "turbulence_intensity",
+                                                              "viscosity_ratio") if key in p)
+        lines.append(f"- proposed for {model}: {values}; {p['reason']}.")
     lines += [f"- note: {n}" for n in t["notes"]]
     lines += ["", "These are a-priori free-stream values; check them against your solver's guidance."]
     return "\n".join(lines) + "\n"
