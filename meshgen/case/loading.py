@@ -25,26 +25,29 @@ TEMPLATES_DIR = Path(__file__).parent / "templates"
 #: The embedded default case: a demo scenario of our own (a 2 m glider wing-root fairing
 #: strip at 25 m/s in sea-level air, wall-resolved).
 DEFAULT_CASE_TOML = """\
+# The embedded default case: a 2 m glider wing-root fairing strip at 25 m/s in
+# sea-level air (Re_L about 3.4e6), wall-resolved (y+ = 1), with a quiet free stream.
+# Edit the values, then run:  meshgen plan this-file.toml
 name = "fairing-strip"
 
 [flow]
-velocity = 25.0          # m/s
-length = 2.0             # m
-fluid = "Air"
-temperature = 288.15     # K
-pressure = 101325.0      # Pa
-regime = "auto"
-turbulence_intensity = 0.0001   # a quiet free stream, inside the SST ranges of bc.md
-viscosity_ratio = 0.01
+velocity = 25.0          # free-stream speed U [m/s]
+length = 2.0             # plate length L [m]
+fluid = "Air"            # CoolProp fluid name
+temperature = 288.15     # [K]
+pressure = 101325.0      # [Pa]
+regime = "auto"          # laminar | turbulent | transitional | auto (laminar below Re_L = 5e5)
+turbulence_intensity = 0.0001   # free-stream Tu [-]: a quiet stream, inside the SST ranges of bc.md
+viscosity_ratio = 0.01   # free-stream nu_t / nu [-]
 
 [wall]
-y_plus = 1.0
-growth_ratio = 1.12
+y_plus = 1.0             # target y+ of the first cell at the reference station
+growth_ratio = 1.12      # wall-normal growth ratio
 
 [domain]
-height_factor = 10.0
-upstream = 0.5
-downstream = 0.5
+height_factor = 10.0     # domain height H / delta99(L)
+upstream = 0.5           # upstream block length [L] (symmetry below)
+downstream = 0.5         # wake block length [L] (symmetry below)
 """
 
 SECTIONS = {

@@ -15,6 +15,7 @@ from pathlib import Path
 from .. import __version__
 from ..core.errors import InputError, MeshgenError
 from ..core.jsontext import dumps
+from . import convention
 from .args import _case_args, _Parser
 
 EXIT_OK, EXIT_FAIL, EXIT_INPUT, EXIT_INTERRUPT = 0, 1, 2, 130
@@ -23,9 +24,10 @@ EXIT_OK, EXIT_FAIL, EXIT_INPUT, EXIT_INTERRUPT = 0, 1, 2, 130
 def _parser() -> argparse.ArgumentParser:
     from ..io.writers import FORMATS
 
-    p = _Parser(prog="meshgen", description="Graded, tagged structured meshes for flat-plate boundary layers.")
+    p = _Parser(prog="meshgen", description="Graded, tagged structured meshes for flat-plate boundary layers.",
+                epilog=convention.OUTPUT_RULE)
     p.add_argument("--version", action="version", version=f"meshgen {__version__}")
-    p.add_argument("--verbose", action="store_true", help="show gmsh's own log")
+    convention.global_options(p)
     sub = p.add_subparsers(dest="command", parser_class=_Parser)
 
     sp = sub.add_parser("plan", help="print the sizing table (no mesh is built)")
@@ -34,15 +36,17 @@ def _parser() -> argparse.ArgumentParser:
 
     sb = sub.add_parser("build", help="build, verify and write the mesh")
     _case_args(sb)
-    sb.add_argument("-o", "--output", help="output folder (default outputs/<case name>/)")
-    sb.add_argument("--format", dest="formats", action="append", metavar="NAME",
-                    help=f"output format, repeatable: {', '.join(sorted(FORMATS))}")
+    sb.add_argument("-o", "--output", metavar="DIR", help="output folder (default outputs/<case name>/)")
+    sb.add_argument("--format", dest="formats", action=convention.CommaList, metavar="NAME[,NAME...]",
+                    help=f"output formats, comma list or repeated: {', '.join(sorted(FORMATS))}")
+    sb.add_argument("--json", action="store_true",
+                    help="print the folder, files and warnings as one JSON object on stdout")
     sb.add_argument("--force", action="store_true", help="overwrite existing outputs")
     sb.add_argument("--no-pictures", action="store_true", help="skip the PNG pictures")
 
-    si = sub.add_parser("init", help="list the starter cases, or write one to edit")
-    si.add_argument("template", nargs="?", help="template name")
-    si.add_argument("-o", "--output", help="file to write (default <template>.toml)")
+    si = sub.add_parser("init", help="list the starter cases, or write one to edit ('default' is the embedded case)")
+    si.add_argument("template", nargs="?", help="template name, or 'default' for the embedded default case")
+    si.add_argument("-o", "--output", metavar="FILE", help="file to write (default <template>.toml)")
     si.add_argument("--force", action="store_true", help="overwrite an existing file")
 
     sg = sub.add_parser("gci", help="grid-convergence uncertainty (Celik et al. 2008) from a family folder or a CSV")
@@ -68,9 +72,11 @@ def _parser() -> argparse.ArgumentParser:
     sn.add_argument("--json", action="store_true", help="print the report as JSON")
     sn.add_argument("--pictures", metavar="DIR", help="write the pictures into DIR")
 
-    sub.add_parser("formats", help="list the output formats and the solvers that read them")
+    sf = sub.add_parser("formats", help="list the output formats and the solvers that read them")
+    sf.add_argument("--json", action="store_true", help="print the formats as one JSON object")
     for module in EXTRA_COMMANDS:
         COMMANDS.update(importlib.import_module(module).add_commands(sub))
+    convention.apply(p)
     return p
 
 
@@ -80,19 +86,36 @@ def _templates_dir() -> Path:
     return TEMPLATES_DIR
 
 
-def _template_summary(path: Path) -> str:
-    for line in path.read_text(encoding="utf-8").splitlines():
-        if line.startswith("#"):
-            return line.lstrip("# ").strip()
-    return ""
+#: ``meshgen init default`` writes the embedded default case.
+DEFAULT_TEMPLATE = "default"
+
+
+def _template_text(name: str) -> str:
+    if name == DEFAULT_TEMPLATE:
+        from ..case import DEFAULT_CASE_TOML
+
+        return DEFAULT_CASE_TOML
+    return (_templates_dir() / f"{name}.toml").read_text(encoding="utf-8")
+
+
+def _template_summary(text: str) -> str:
+    """The first sentence of the leading comment block (it may run over several lines)."""
+    lines = []
+    for line in text.splitlines():
+        if not line.startswith("#"):
+            break
+        lines.append(line.lstrip("# ").strip())
+    words = " ".join(lines)
+    end = words.find(". ")
+    return words if end < 0 else words[: end + 1]
 
 
 def cmd_init(args) -> int:
-    names = sorted(p.stem for p in _templates_dir().glob("*.toml"))
+    names = sorted([DEFAULT_TEMPLATE, *(p.stem for p in _templates_dir().glob("*.toml"))])
     if not args.template:
         width = max(len(n) for n in names)
         for n in names:
-            print(f"{n.ljust(width)}  {_template_summary(_templates_dir() / (n + '.toml'))}")
+            print(f"{n.ljust(width)}  {_template_summary(_template_text(n))}")
         return EXIT_OK
     if args.template not in names:
         import difflib
@@ -107,7 +130,7 @@ def cmd_init(args) -> int:
         raise InputError(f"-o {target}: exists; use --force to overwrite")
     from ..io.atomic import write_text
 
-    write_text(target, (_templates_dir() / f"{args.template}.toml").read_text(encoding="utf-8"))
+    write_text(target, _template_text(args.template))
     print(f"wrote {target}")
     return EXIT_OK
 
@@ -136,6 +159,11 @@ def cmd_plan(args) -> int:
 def cmd_formats(args) -> int:
     from ..io.writers import FORMATS
 
+    if args.json:
+        print(dumps({name: {"description": f.description, "solvers": f.solvers, "setup": f.setup,
+                            "outputs": [str(o) for o in f.outputs(Path(), "<name>")]}
+                     for name, f in sorted(FORMATS.items())}))
+        return EXIT_OK
     width = max(len(n) for n in FORMATS)
     for name, f in sorted(FORMATS.items()):
         print(f"{name.ljust(width)}  {f.description}. Read by: {f.solvers}")
@@ -218,17 +246,23 @@ def cmd_inspect(args) -> int:
 def cmd_build(args) -> int:
     from ..pipeline.build import build_case
 
-    written = build_case(
-        case_path=args.case,
-        overrides=args.overrides,
-        output=args.output,
-        formats=args.formats,
-        force=args.force,
-        pictures=not args.no_pictures,
-        verbose=args.verbose,
-        progress=lambda msg: print(msg, file=sys.stderr),
-    )
-    print(f"wrote {len(written)} files to {written[0].parent if written else args.output}:")
+    warnings: list[str] = []
+    stages = 3 + len(args.formats or ["msh", "vtu"]) + (0 if args.no_pictures else 1)
+    with convention.StageProgress(stages, convention.show_progress(args), args.quiet) as progress:
+        def report(message: str) -> None:
+            if message.startswith("warning: "):
+                warnings.append(message[len("warning: "):])
+            progress(message)
+
+        written = build_case(case_path=args.case, overrides=args.overrides, output=args.output,
+                             formats=args.formats, force=args.force, pictures=not args.no_pictures,
+                             verbose=args.verbose, progress=report)
+    folder = Path(os.path.commonpath([str(p) for p in written])) if written else Path(args.output or ".")
+    if args.json:
+        print(dumps({"command": "build", "folder": str(folder), "files": [str(p) for p in written],
+                     "warnings": warnings}))
+        return EXIT_OK
+    print(f"wrote {len(written)} files to {folder}:")
     for p in written:
         print(f"  {p}")
     return EXIT_OK

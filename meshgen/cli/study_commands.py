@@ -28,6 +28,7 @@ from ..study.domain import DEFAULT_TOL, domain_summary
 from ..study.domain_report import domain_table, plot_domain, verdict
 from ..study.runner import RunReport, Study, run_study
 from .args import _case_args
+from .convention import CommaList, show_progress
 
 EXIT_OK, EXIT_FAIL = 0, 1
 
@@ -43,9 +44,11 @@ def _run_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("-o", "--output", metavar="DIR", help="output folder (default outputs/<case name>-<command>)")
     p.add_argument("--workers", type=int, default=None, metavar="K",
                    help=f"local worker processes (default {default_workers()}); ignored with --scheduler")
-    p.add_argument("--format", dest="formats", action="append", metavar="NAME",
+    p.add_argument("--format", dest="formats", action=CommaList, metavar="NAME[,NAME...]",
                    help=f"output format, repeatable: {', '.join(sorted(FORMATS))}")
     p.add_argument("--force", action="store_true", help="rebuild every member and overwrite existing outputs")
+    p.add_argument("--json", action="store_true",
+                   help="print the outcome as one JSON object on stdout (tables and messages go to stderr)")
     p.add_argument("--scheduler", metavar="ADDRESS",
                    help="build on a Dask cluster (e.g. tcp://host:8786) that shares the output folder")
 
@@ -93,7 +96,7 @@ def add_commands(sub) -> dict:
 
     sf = sub.add_parser("family", help="build a refinement family (level 0 = the case, coarser levels)")
     _case_args(sf)
-    sf.add_argument("--levels", type=int, required=True, metavar="N", help="number of levels (2 or more)")
+    sf.add_argument("--levels", type=int, required=True, metavar="N", help="number of levels, 2 to 12")
     sf.add_argument("--ratio", type=float, required=True, metavar="R",
                     help="refinement ratio between levels (above 1.1; Celik et al. 2008 recommend > 1.3)")
     _family_args(sf)
@@ -140,14 +143,20 @@ def _run(study: Study, warnings: list[str], args, case_name: str) -> int:
     root = output_folder(args.output, f"{case_name}-{study.kind}")
     workers = default_workers() if args.workers is None else args.workers
     report = run_study(study, root, workers=workers, force=args.force, scheduler=args.scheduler,
-                       stream=sys.stderr)
-    return finish_report(report, study.kind)
+                       stream=sys.stderr if show_progress(args) else None)
+    return finish_report(report, study.kind, as_json=args.json)
 
 
-def finish_report(report: RunReport, kind: str) -> int:
-    """Print the outcome (stdout) and any failures (stderr); the exit code."""
-    print(f"{kind}: {report.total} members in {report.manifest.parent} ({len(report.built)} built, "
-          f"{len(report.skipped)} up to date, {len(report.failed)} failed); manifest {report.manifest}")
+def finish_report(report: RunReport, kind: str, as_json: bool = False) -> int:
+    """Print the outcome (stdout; one JSON object with ``as_json``) and any failures
+    (stderr); the exit code."""
+    if as_json:
+        print(dumps({"command": kind, "folder": str(report.manifest.parent), "manifest": str(report.manifest),
+                     "total": report.total, "built": report.built, "skipped": report.skipped,
+                     "failed": report.failed}))
+    else:
+        print(f"{kind}: {report.total} members in {report.manifest.parent} ({len(report.built)} built, "
+              f"{len(report.skipped)} up to date, {len(report.failed)} failed); manifest {report.manifest}")
     if not report.failed:
         return EXIT_OK
     print(f"error: {len(report.failed)} of {report.total} {kind} members failed:", file=sys.stderr)
@@ -172,19 +181,23 @@ def cmd_family(args) -> int:
                                    _arguments("family", args, extra), keep_counts=args.keep_counts,
                                    floors=floors)
     nesting = study.header["nesting"]
+    out = sys.stderr if args.json else sys.stdout  # with --json, stdout holds the JSON object only
     if nesting["rounded"]:
         print("family: the finest level's counts rounded up so that the levels nest "
-              "(--keep-counts keeps the case's):")
+              "(--keep-counts keeps the case's):", file=out)
         for name, (old, new) in nesting["rounded"].items():
-            print(f"  {name}: {old} -> {new}")
+            print(f"  {name}: {old} -> {new}", file=out)
     for note in nesting["notes"]:
-        print(f"family: {note}")
+        print(f"family: {note}", file=out)
     print(judgement_table([m.name for m in study.members], [m.record["judgement"] for m in study.members],
-                          floors))
+                          floors), file=out)
     if args.dry_run:
         for w in warnings:
             print(f"warning: {w}", file=sys.stderr)
-        print("family: dry run, nothing written")
+        print("family: dry run, nothing written", file=out)
+        if args.json:
+            print(dumps({"command": "family", "dry_run": True,
+                         "levels": [{"name": m.name, **m.record} for m in study.members]}))
         return EXIT_OK
     return _run(study, warnings, args, study.members[0].plan.case.name)
 
