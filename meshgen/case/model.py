@@ -155,6 +155,9 @@ class Names(Section):
 class Output(Section):
     formats: list[str] = Field(default_factory=lambda: ["msh", "vtu"], min_length=1)
     max_cells: int = Field(20_000_000, ge=1, le=500_000_000, description="refuse plans above this")
+    centre_line_angle_limit: float = Field(
+        70.0, gt=0, lt=90, description="largest acceptable angle [deg] between a face's normal and the line "
+        "joining its two cell centres, for the quality report (70: common practice for finite-volume solvers)")
 
 
 class Case(Section):

@@ -71,6 +71,9 @@ def _parser() -> argparse.ArgumentParser:
     sn.add_argument("mesh", help="mesh file, or an OpenFOAM case / polyMesh folder")
     sn.add_argument("--json", action="store_true", help="print the report as JSON")
     sn.add_argument("--pictures", metavar="DIR", help="write the pictures into DIR")
+    sn.add_argument("--angle-limit", type=float, default=70.0, metavar="DEG",
+                    help="largest acceptable centre-line angle, above 0 and below 90 (default 70, common "
+                         "practice for finite-volume solvers)")
 
     sf = sub.add_parser("formats", help="list the output formats and the solvers that read them")
     sf.add_argument("--json", action="store_true", help="print the formats as one JSON object")
@@ -230,7 +233,9 @@ def cmd_inspect(args) -> int:
 
     path = Path(args.mesh)
     mesh = _read_any(path)
-    report = quality_report(mesh)
+    if not 0 < args.angle_limit < 90:  # also refuses NaN
+        raise InputError(f"--angle-limit {args.angle_limit}: an angle in degrees above 0 and below 90")
+    report = quality_report(mesh, angle_limit=args.angle_limit)
     pics = []
     if args.pictures:
         from ..reports.plots import make_pictures

@@ -148,7 +148,7 @@ def quality_for_plan(plan: Plan, mesh) -> dict:
                                 band=t.band, band_rule=t.description)
     blr["regime"] = f.regime
     blr["assumptions"] = plan.to_dict()["assumptions"]
-    return quality_report(mesh, blr)
+    return quality_report(mesh, blr, angle_limit=plan.case.output.centre_line_angle_limit)
 
 
 def _after_build_hooks(plan: Plan, mesh, out: Path, pictures: bool, progress: Progress) -> list[Path]:

@@ -65,8 +65,8 @@ def quality_markdown(report: dict, case_name: str, pictures=()) -> str:
         acc = "-" if "acceptable" not in s else f"{_fmt(s['acceptable'][0])} to {_fmt(s['acceptable'][1])}"
         rows.append([name.replace("_", " "), s["unit"], s["min"], s["p5"], s["p50"], s["p95"], s["max"],
                      acc, s.get("outside", "-") if "outside" in s else "-"])
-    out += ["## Cell metrics", "", (f"Definitions: {report['sources']['metrics']}; non-orthogonality: "
-            f"{report['sources']['non_orthogonality']}."), ""]
+    out += ["## Cell metrics", "", (f"Definitions: {report['sources']['metrics']}; centre-line angle: "
+            f"{report['sources']['centre_line_angle']}."), ""]
     out += _table(["metric", "unit", "min", "p5", "median", "p95", "max", "acceptable", "outside"], rows)
     out.append("")
     if "boundary_layer" in report:

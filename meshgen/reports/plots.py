@@ -127,6 +127,12 @@ def _group_segments(mesh: Mesh, facets: np.ndarray) -> np.ndarray:
     return p[np.isclose(p[..., 2], z0).all(axis=1)][..., :2]
 
 
+def group_label(name: str, role: str) -> str:
+    """A group's legend entry: its name, and its role only when the name differs from it
+    (``hull (wall)``, not ``inlet (inlet)``)."""
+    return name if name == role else f"{name} ({role})"
+
+
 def _groups(ax, mesh: Mesh, labelled: bool = True) -> list[str]:
     """Draw every boundary group; return the names of groups not in the drawing plane."""
     from matplotlib.collections import LineCollection
@@ -138,7 +144,7 @@ def _groups(ax, mesh: Mesh, labelled: bool = True) -> list[str]:
             hidden.append(g.name)
             continue
         ax.add_collection(LineCollection(seg, colors=GROUP_COLOURS[k % len(GROUP_COLOURS)], linewidths=3.0,
-                                         label=f"{g.name} ({g.role})" if labelled else None,
+                                         label=group_label(g.name, g.role) if labelled else None,
                                          zorder=3, capstyle="round"))
     return hidden
 

@@ -151,28 +151,19 @@ def _plot_one(ax, quantity: str, st: dict) -> None:
             label=f"phi_ext + C h^p, p = {p:.3g}",
         )
     if ext is not None:
-        ax.fill_between(
-            [0.0, h[0]],
-            ext - u,
-            ext + u,
-            color=BAND_COLOUR,
-            alpha=0.35,
-            lw=0,
-            label="GCI band (Fs |phi_ext21 - phi1|)",
-        )
-        ax.errorbar(
-            [0.0],
-            [ext],
-            yerr=[[u], [u]],
-            fmt="D",
-            color=EXT_COLOUR,
-            capsize=6,
-            zorder=4,
-            clip_on=False,  # the marker sits on the axis at h = 0
-            label=f"extrapolated {ext:.6g} \u00b1 {u:.3g} (GCI_fine21 = {_pct(res['gci_fine21'])})",
-        )
-    ax.set_xlim(0.0, 1.08 * h.max())
-    ax.set_xlabel("representative cell size h (h = 0: extrapolated)")
+        # The GCI qualifies the fine-grid value: phi1 +- u_fine21 (u = GCI_fine21 |phi1|,
+        # Celik et al. 2008 eq. 10 and their reporting form "phi1 +- GCI"), so the band is
+        # drawn around phi1, from the fine grid to h = 0 where phi_ext should fall inside it.
+        ax.fill_between([0.0, h[0]], phi[0] - u, phi[0] + u, color=BAND_COLOUR, alpha=0.35, lw=0,
+                        label=f"GCI band of the fine grid: phi1 \u00b1 {u:.3g} (GCI_fine21 = {_pct(res['gci_fine21'])})")
+        ax.errorbar([h[0]], [phi[0]], yerr=[[u], [u]], fmt="none", ecolor=EXT_COLOUR, capsize=6, zorder=4)
+        ax.plot([0.0], [ext], "D", color=EXT_COLOUR, zorder=4, clip_on=False,  # on the axis at h = 0
+                label=f"extrapolated phi_ext21 = {ext:.6g}")
+    # room for the level labels and the legend: nothing is cut at the frame
+    ax.set_xlim(0.0, 1.15 * h.max())
+    lo, hi = ax.get_ylim()
+    ax.set_ylim(lo, hi + 0.12 * (hi - lo))
+    ax.set_xlabel("representative cell size h [m] (h = 0: extrapolated)")
     ax.set_ylabel(quantity)
     kind = f"two grids, assumed p = {p:g}" if res["method"] == METHOD_TWO else res["kind"]
     ax.set_title(
@@ -185,8 +176,8 @@ def _plot_one(ax, quantity: str, st: dict) -> None:
 def plot_gci(results: Mapping, path: str | Path) -> Path:
     """PNG of phi against h, one subplot per quantity, with the extrapolated value at h = 0.
 
-    The band drawn at h = 0 is phi_ext21 +- u_fine21 (u = GCI_fine21 |phi1|), which covers
-    the fine-grid value. Written atomically; returns the path.
+    The band is phi1 +- u_fine21 (u = GCI_fine21 |phi1|), around the fine-grid value it
+    qualifies, with the extrapolated value marked at h = 0. Written atomically; returns the path.
     """
     from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure

@@ -309,7 +309,7 @@ def test_report_is_plain_json_and_counts_ranges():
     values = cell_metrics(m)[0]["aspect_ratio"]
     assert ar["outside"] == int(np.sum((values < 1.0) | (values > 1.3)))  # Verdict range 1 to 1.3
     assert ar["min"] <= ar["p1"] <= ar["p50"] <= ar["p99"] <= ar["max"]
-    assert r["metrics"]["non_orthogonality"]["acceptable"] == [0.0, 70.0]  # common practice
+    assert r["metrics"]["centre_line_angle"]["acceptable"] == [0.0, 70.0]  # common practice, the default
     assert any("wall layers" in n for n in r["notes"])
     assert r["inverted_cells"] == 0 and r["errors"] == []
 
@@ -607,7 +607,7 @@ def test_exact_extrusion_takes_one_layer_and_matches_every_cell(base):
         assert any("every cell" in n for n in general["notes"])
         assert_same_metrics(fast, general)
     assert fast["metrics"]["volume"]["count"] == 8 * 6 * 7
-    assert fast["metrics"]["non_orthogonality"]["count"] == 7 * (7 * 6 + 8 * 5) + 6 * 8 * 6
+    assert fast["metrics"]["centre_line_angle"]["count"] == 7 * (7 * 6 + 8 * 5) + 6 * 8 * 6
 
 
 @pytest.mark.parametrize("base", list(BASES))
