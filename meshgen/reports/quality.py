@@ -239,8 +239,8 @@ def quality_report(mesh: Mesh, boundary_layer: dict | None = None, angle_limit: 
         values["centre_line_angle"] = non_orthogonality(mesh)
     if structured.shape is None:
         notes.append("not a tensor-product grid: growth ratios and spacing profiles omitted")
-    angle = ("deg", 0.0, float(angle_limit), "common practice for finite-volume solvers "
-             f"(setting output.centre_line_angle_limit, default {ANGLE_LIMIT:g})")
+    source = f"common practice for finite-volume solvers (setting, default {ANGLE_LIMIT:g})"
+    angle = ("deg", 0.0, float(angle_limit), source)
     metrics = {k: summarise(k if not k.startswith("growth_ratio") else "growth_ratio", v,
                             angle if k == "centre_line_angle" else None)
                for k, v in values.items()}
