@@ -17,7 +17,7 @@ from typing import Any
 from pydantic import ValidationError
 
 from ..core.errors import CaseError
-from .model import Case, Domain, Flow, Names, Output, Streamwise, Wall
+from .model import Case, Domain, Flow, Names, Output, Resolution, Streamwise, Wall
 
 #: The starter cases that ``meshgen init`` lists and writes.
 TEMPLATES_DIR = Path(__file__).parent / "templates"
@@ -52,8 +52,11 @@ downstream = 0.5         # wake block length [L] (symmetry below)
 
 SECTIONS = {
     "flow": Flow, "wall": Wall, "domain": Domain, "streamwise": Streamwise,
-    "names": Names, "output": Output,
+    "names": Names, "output": Output, "resolution": Resolution,
 }
+#: Sections written back by ``case_to_toml`` only when the case sets one of their keys, so
+#: that a case without them writes the same text as before they existed.
+OPTIONAL_SECTIONS = ("resolution",)
 
 
 def _did_you_mean(key: str, options: list[str]) -> str:
@@ -188,6 +191,8 @@ def case_to_toml(case: Case) -> str:
     lines = [f'name = "{case.name}"']
     for section in SECTIONS:
         sec = getattr(case, section)
+        if section in OPTIONAL_SECTIONS and not sec.model_fields_set:
+            continue
         lines.append(f"\n[{section}]")
         for key, value in sec.model_dump().items():
             if value is None:

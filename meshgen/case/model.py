@@ -1,7 +1,7 @@
 """The case: validated parameters of one mesh (pydantic v2).
 
 A case file is TOML with the sections ``[flow]``, ``[wall]``, ``[domain]``,
-``[streamwise]``, ``[names]`` and ``[output]`` and a top-level ``name``. Every field has a
+``[streamwise]``, ``[names]``, ``[output]`` and ``[resolution]`` and a top-level ``name``. Every field has a
 range; errors name the field, the value and what is valid. Loading, overrides and the
 embedded default case are in loading.py.
 
@@ -16,6 +16,7 @@ from typing import Literal
 from pydantic import BaseModel, ConfigDict, Field, model_validator
 
 from ..physics.correlations import CORRELATIONS
+from ..physics.resolution import KINDS
 
 
 class Section(BaseModel):
@@ -103,9 +104,10 @@ class Domain(Section):
     downstream: float = Field(0.5, ge=0, le=100, description="wake block length [L]")
     span: float = Field(0.0, ge=0, le=100, description="spanwise extent [L]; 0 = 2-D")
     span_cells: int = Field(1, ge=1, le=10000, description="spanwise cell count")
-    span_boundary: Literal["symmetry", "patch"] = Field(
+    span_boundary: Literal["symmetry", "patch", "periodic"] = Field(
         "symmetry", description="type of the front and back faces of a 3-D mesh in every format that "
-        "carries types: symmetry plane, or a plain patch the solver set-up decides")
+        "carries types: symmetry plane, a plain patch the solver set-up decides, or a periodic pair "
+        "(the default of a scale-resolving resolution.kind when not given)")
 
 
 class Streamwise(Section):
@@ -160,6 +162,36 @@ class Output(Section):
         "joining its two cell centres, for the quality report (70: common practice for finite-volume solvers)")
 
 
+class Resolution(Section):
+    """What the grid resolves: RANS (the first cell only, today's sizing) or a scale-resolving
+    kind, which sizes the streamwise and spanwise spacing and the span from u_tau(x) too
+    (meshgen.physics.resolution holds the defaults and their sources)."""
+
+    kind: Literal["rans", "wall-resolved-les", "wall-modelled-les", "dns"] = "rans"
+    dx_plus: float | None = Field(None, gt=0, le=10000, description="streamwise spacing in wall units [-]")
+    dz_plus: float | None = Field(None, gt=0, le=10000, description="spanwise spacing in wall units [-]")
+    cells_per_delta: float | None = Field(None, ge=2, le=1000, description="cells per delta99 [-]")
+    span_deltas: float | None = Field(None, gt=0, le=1000, description="span in delta99 at the plate end [-]")
+    station: Literal["reference", "strictest"] = Field(
+        "reference", description="size at wall.reference_station or at the strictest station of the plate")
+    strictest_from: float = Field(0.1, gt=0, lt=1, description="x/L where the search for the strictest station starts")
+
+    @model_validator(mode="after")
+    def _keys_of_the_kind(self) -> Resolution:
+        k = KINDS[self.kind]
+        used = {"dx_plus": k.dx_plus, "dz_plus": k.dz_plus, "cells_per_delta": k.cells_per_delta,
+                "span_deltas": k.name != "rans", "station": k.name != "rans", "strictest_from": k.name != "rans"}
+        problems = [
+            f"resolution.{key}: not used by resolution.kind = {self.kind!r}; "
+            + ("set a scale-resolving kind (wall-resolved-les, wall-modelled-les, dns)" if self.kind == "rans"
+               else f"{self.kind} uses " + ", ".join(n for n, v in used.items() if v))
+            for key, v in used.items() if key in self.model_fields_set and not v
+        ]
+        if problems:
+            raise ValueError("\n".join(problems))
+        return self
+
+
 class Case(Section):
     """One validated case: flow, wall, domain, streamwise, names and output sections
     (lengths in [domain] and [streamwise] in plate lengths L, the rest in SI units);
@@ -172,3 +204,4 @@ class Case(Section):
     streamwise: Streamwise = Streamwise()
     names: Names = Names()
     output: Output = Output()
+    resolution: Resolution = Resolution()

@@ -22,6 +22,7 @@ from ..core.errors import MeshError
 from ..planning.plan import Plan
 from .gmsh_session import gmsh_session
 from .mesh import Mesh, extrude, structured_mesh
+from .periodic import periodic_span
 from .verify import verify_mesh
 
 #: Relative tolerance on the first wall spacing (issue: equal to the plan to 1e-9).
@@ -40,13 +41,15 @@ def build_mesh(plan: Plan, verbose: bool = False) -> Mesh:
     _check_against_gmsh(mesh, plan, groups_nodes, quads)
     verify_mesh(mesh, plan.x.size * plan.y.size, (plan.x.size - 1) * (plan.y.size - 1))
     _check_wall_spacing(mesh, plan)
-    meta = {"case": plan.case.name, "level": plan.level, "span_boundary": plan.case.domain.span_boundary}
+    meta = {"case": plan.case.name, "level": plan.level, "span_boundary": plan.span_boundary}
     mesh = Mesh(mesh.points, mesh.cells, mesh.groups, mesh.shape, mesh.blocks, plan.case.names.fluid, meta)
     if plan.z is not None:
         n = plan.case.names
         # lazy: the hexahedra are built block by block by whatever reads them
         mesh = extrude(mesh, plan.z, front=n.front, back=n.back)
         verify_mesh(mesh, plan.node_count, plan.cell_count)
+        if plan.span_boundary == "periodic":
+            mesh = periodic_span(mesh, n.back, n.front)
     return mesh
 
 

@@ -33,7 +33,7 @@ ROLES = ("inlet", "outlet", "wall", "farfield", "symmetry", "front", "back")
 #: What the front and back faces of a 3-D mesh are (case key ``domain.span_boundary``),
 #: the same in every format that carries a type; "empty" is the one-layer extrusion a
 #: writer makes of a 2-D mesh for a solver that runs 2-D as one cell thick.
-SPAN_BOUNDARIES = ("symmetry", "patch", "empty")
+SPAN_BOUNDARIES = ("symmetry", "patch", "empty", "periodic")
 
 
 def span_boundary(mesh: Mesh) -> str:
@@ -54,6 +54,16 @@ class Group:
     patches: tuple[Patch, ...] = ()
 
 
+@dataclass(frozen=True)
+class PeriodicPair:
+    """Two boundary groups that are periodic images: ``target`` is ``source`` moved by
+    ``translation`` [m] (meshgen.meshing.periodic pairs their facets and nodes)."""
+
+    source: str
+    target: str
+    translation: tuple[float, float, float]
+
+
 @dataclass(frozen=True, eq=False)
 class Mesh:
     """Points [m], cells, named boundary groups and, when structured, the grid layout."""
@@ -65,6 +75,7 @@ class Mesh:
     blocks: tuple[Block, ...] = ()
     cell_group: str = "fluid"
     meta: dict = field(default_factory=dict)
+    periodic: tuple[PeriodicPair, ...] = ()
 
     @property
     def dim(self) -> int:

@@ -166,9 +166,11 @@ def _after_build_hooks(plan: Plan, mesh, out: Path, pictures: bool, progress: Pr
     pics: list[Path] = []
     if pictures:
         from ..reports.plots import make_pictures
+        from ..reports.resolution_plot import write_resolution_picture
 
         progress("pictures")
         pics = make_pictures(mesh, report, plan.case.name, out)
+        pics += write_resolution_picture(plan, plan.case.name, out)
     written.append(write_text(out / "quality.json", dumps(report, what=str(out / "quality.json")) + "\n"))
     written.append(write_text(out / "report.md", quality_markdown(report, plan.case.name, pics)))
     return written + pics

@@ -19,13 +19,15 @@ from ..physics import compressible as comp
 from ..physics import correlations as bl
 from ..physics import transition as tr
 from ..physics.fluids import fluid_state, sound_properties
+from ..physics.resolution import KINDS
 from ..physics.treatment import TREATMENTS
 from ..physics.wall import WallQuantities, first_cell_height, wall_quantities, y_plus
-from . import sizing
+from . import resolved, sizing
 from .layout import Block, Patch
 from .spacing import capped_geometric, geometric_nodes, solve_geometric
 from .streamwise import streamwise_nodes
 from .summary import PlanDisplay
+from .wall_units import resolution_figures
 
 #: Stations x/L where the plan counts cells inside delta99.
 BL_STATIONS = (0.1, 0.5, 1.0)
@@ -71,17 +73,29 @@ class Plan(PlanDisplay):
     domain_height: float
     setup_warnings: tuple[str, ...] = field(default=())  # from the flow and the domain
     level: int = 0  # 0 = the case as given; k = coarsened k times in a family
+    resolution: resolved.Sizing | None = None  # scale-resolving targets (None: RANS)
 
     @property
     def warnings(self) -> tuple[str, ...]:
         """Warnings of the case and of this plan's own resolution (per family level)."""
         _, yp = self.y_plus_along_plate()
+        # a wall-modelled LES sizes its first cell on delta, not on a y+ band
+        treatment = self.resolution is None or KINDS[self.resolution.kind].first_y_plus is not None
         return (self.setup_warnings + resolution_warnings(self.y, self.delta99_end)
-                + tuple(sizing.physics_warnings(self.case, self.flow, float(yp.min()), float(yp.max()))))
+                + tuple(sizing.physics_warnings(self.case, self.flow, float(yp.min()), float(yp.max()), treatment)))
 
     @property
     def dim(self) -> int:
         return 2 if self.z is None else 3
+
+    @property
+    def span_boundary(self) -> str:
+        """What the spanwise sides are: domain.span_boundary, or by default periodic for a
+        scale-resolving plan and symmetry otherwise."""
+        d = self.case.domain
+        if "span_boundary" in d.model_fields_set or self.resolution is None:
+            return d.span_boundary
+        return "periodic"
 
     @property
     def node_count(self) -> int:
@@ -201,7 +215,7 @@ class Plan(PlanDisplay):
             "groups": [g[0] for g in self.group_layout()]
             + ([] if self.z is None else [self.case.names.back, self.case.names.front]),
             "warnings": list(self.warnings),
-        }
+        } | ({} if self.resolution is None else resolution_figures(self))
 
 
 def resolve_flow(case: Case) -> tuple[FlowState, list[str]]:
@@ -307,10 +321,15 @@ def _check_cell_limit(case: Case, cells: int) -> None:
 
 
 def make_plan(case: Case) -> Plan:
+    problems = resolved.case_problems(case)
+    if problems:
+        raise CaseError(problems)
     flow, warnings = resolve_flow(case)
     xl = flow.length
     delta_end = float(flow.wall(np.array([xl])).delta99[0])
     height = case.domain.height_factor * delta_end
+    if case.resolution.kind != "rans":
+        return _resolved_plan(case, flow, warnings, delta_end, height)
     # Estimate the counts before allocating anything big.
     x, blocks = streamwise_nodes(case, xl)
     y = wall_normal_nodes(case, flow, height, delta_end)
@@ -323,6 +342,17 @@ def make_plan(case: Case) -> Plan:
     if case.domain.height_factor < 10:
         warnings.append("domain.height_factor below 10: the top boundary may affect the boundary layer")
     return Plan(case, flow, x, y, z, blocks, delta_end, height, tuple(warnings))
+
+
+def _resolved_plan(case: Case, flow: FlowState, warnings: list[str], delta_end: float, height: float) -> Plan:
+    """A scale-resolving plan (meshgen.planning.resolved): counted before anything is allocated."""
+    nx, ny, nz = resolved.cell_counts(case, flow, height)
+    _check_cell_limit(case, nx * ny * nz)
+    x, blocks, y, z, targets = resolved.grid(case, flow, height)
+    warnings += resolved.warnings(case, flow, targets)
+    if case.domain.height_factor < 10:
+        warnings.append("domain.height_factor below 10: the top boundary may affect the boundary layer")
+    return Plan(case, flow, x, y, z, blocks, delta_end, height, tuple(warnings), resolution=targets)
 
 
 def resolution_warnings(y: np.ndarray, delta_end: float) -> tuple[str, ...]:

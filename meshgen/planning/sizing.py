@@ -64,7 +64,8 @@ def assumptions(case, flow) -> list[str]:
     return out
 
 
-def physics_warnings(case, flow, y_plus_min: float, y_plus_max: float) -> list[str]:
+def physics_warnings(case, flow, y_plus_min: float, y_plus_max: float, treatment: bool = True) -> list[str]:
+    """Warnings of the flow and, when ``treatment``, of the first cell against the wall treatment's band."""
     out = []
     if not flow.mach and flow.mach_estimate is not None and flow.mach_estimate > INCOMPRESSIBLE_MACH:
         out.append(f"free-stream Mach number {flow.mach_estimate:.2f} is above {INCOMPRESSIBLE_MACH} but the case is "
@@ -75,5 +76,6 @@ def physics_warnings(case, flow, y_plus_min: float, y_plus_max: float) -> list[s
         out.append("wall.temperature is used only by a compressible sizing (flow.mach > 0); ignored")
     w = case.wall
     target = y_plus_target(w) if w.first_cell_height is None else None
-    out += treatment_warnings(w.treatment, y_plus_min, y_plus_max, target)
+    if treatment:
+        out += treatment_warnings(w.treatment, y_plus_min, y_plus_max, target)
     return out

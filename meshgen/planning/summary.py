@@ -19,6 +19,33 @@ def _wall_state(w: dict) -> str:
     return f"{_fmt(w['T_w'])} K, {_fmt(w['rho_w'])} kg/m3, {_fmt(w['nu_w'])} m2/s"
 
 
+def _resolution_rows(d: dict) -> list[tuple[str, str]]:
+    """Rows of a scale-resolving plan (none for RANS): targets, achieved values, span, count."""
+    r = d.get("resolution")
+    if r is None:
+        return []
+    t, ref, c, at, along = (r["targets"], r["achieved_at_reference_station"], r["cell_count"], r["sized_at"],
+                            r["along_plate"])
+    wanted = ", ".join(f"{k} {_fmt(t[k])}" for k in ("dx_plus", "dz_plus", "y_plus", "cells_per_delta")
+                       if t[k] is not None)
+    rng = "; ".join(f"{k} {_fmt(v['low'])} to {_fmt(v['high'])} ({v['source']})" for k, v in r["ranges"].items())
+    local = "-" if c["local_exponent"] is None else f"{c['local_exponent']:.3g}"
+    return [
+        ("resolution", r["description"]),
+        ("targets", f"{wanted}, sized at x/L = {_fmt(at['x_over_L'])} ({at['station']} station)"),
+        ("published ranges", rng or "-"),
+        ("achieved at x_ref", (f"dx+ {_fmt(d['dx_plus'])}, dz+ {_fmt(d['dz_plus'])}, y+ {_fmt(d['dy_plus_wall'])}; "
+                               f"cells per delta99: x {_fmt(ref['cells_per_delta']['x'])}, "
+                               f"z {_fmt(ref['cells_per_delta']['z'])}")),
+        ("dx+, dz+ along the plate", (f"{_fmt(along['dx_plus'][0])} to {_fmt(along['dx_plus'][1])}, "
+                                      f"{_fmt(along['dz_plus'][0])} to {_fmt(along['dz_plus'][1])}")),
+        ("span", (f"{_fmt(r['span'])} m = {_fmt(r['span_over_delta99_end'])} delta99(L), {r['span_cells']} cells, "
+                  f"{r['span_boundary']} sides")),
+        ("cell count against Re_L", (f"this grid N ~ Re_L^{local} here; {c['source']}: N ~ Re_L^"
+                                     f"{c['choi_moin_exponent_text']}")),
+    ]
+
+
 def plan_rows(d: dict) -> list[tuple[str, str]]:
     """(label, value) rows of ``Plan.to_dict()``, units in the values."""
     corr = d["correlation"]
@@ -56,6 +83,7 @@ def plan_rows(d: dict) -> list[tuple[str, str]]:
     rows.append(("cells (x by y[ by z])", grid))
     rows.append(("cells per block", ", ".join(f"{k}: {v:,}" for k, v in d["cells_per_block"].items())))
     rows.append(("cells in total", f"{d['cells']:,}"))
+    rows += _resolution_rows(d)
     rows.append(("largest edge ratio (longest / shortest edge of a cell)",
                  f"{d['max_edge_ratio']:.3g} (large in the wall layers by design)"))
     rows.append(("boundary groups", ", ".join(d["groups"])))

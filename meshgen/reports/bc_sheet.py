@@ -27,6 +27,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..planning.plan import Plan
+from .span_sheet import span_markdown, span_sheet
 
 C_MU = 0.09
 #: Spalart-Allmaras constant in fv1 = chi^3 / (chi^3 + cv1^3) (Spalart & Allmaras 1994).
@@ -163,7 +164,7 @@ def bc_sheet(plan: Plan) -> dict:
         "groups": [{"name": n, "role": r, "condition": ROLE_CONDITIONS.get(r) or
                     SPAN_CONDITIONS[plan.case.domain.span_boundary]} for n, r in groups],
         "cells": plan.case.names.fluid,
-    }
+    } | span_sheet(plan)
 
 
 def bc_markdown(sheet: dict) -> str:
@@ -208,4 +209,5 @@ def bc_markdown(sheet: dict) -> str:
         lines.append(f"- proposed for {model}: {values}; {p['reason']}.")
     lines += [f"- note: {n}" for n in t["notes"]]
     lines += ["", "These are a-priori free-stream values; check them against your solver's guidance."]
+    lines += span_markdown(sheet)
     return "\n".join(lines) + "\n"

@@ -18,6 +18,7 @@ def plan_table(d: dict) -> str:
     width = max(len(k) for k, _ in rows)
     lines = [f"{k.ljust(width)}  {v}" for k, v in rows]
     lines += [f"assumes: {a}" for a in d.get("assumptions", [])]
+    lines += [f"caution: {c}" for c in d.get("resolution", {}).get("cautions", [])]
     for w in d.get("warnings", []):
         lines.append(f"warning: {w}")
     return "\n".join(lines)

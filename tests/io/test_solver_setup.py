@@ -21,7 +21,7 @@ foamlib = pytest.importorskip("foamlib")
 
 FIELDS = ("U", "p", "k", "omega", "epsilon", "nut", "nuTilda")
 #: Patch types whose fields must carry the same type (OpenFOAM constraint patches).
-CONSTRAINT = ("symmetryPlane", "empty")
+CONSTRAINT = ("symmetryPlane", "empty", "cyclic")
 
 
 def built(**domain):
@@ -37,7 +37,8 @@ def write_case(mesh, folder):
 
 
 @pytest.mark.parametrize("domain, front", [({}, "empty"), ({"span": 0.02, "span_cells": 2}, "symmetryPlane"),
-                                           ({"span": 0.02, "span_cells": 2, "span_boundary": "patch"}, "patch")])
+                                           ({"span": 0.02, "span_cells": 2, "span_boundary": "patch"}, "patch"),
+                                           ({"span": 0.02, "span_cells": 2, "span_boundary": "periodic"}, "cyclic")])
 def test_every_field_names_every_patch_of_the_polymesh(tmp_path, domain, front):
     mesh = built(**domain)
     write_case(mesh, tmp_path)
@@ -127,3 +128,15 @@ def test_a_mesh_without_a_sheet_is_refused(tmp_path):
         with pytest.raises(WriteError, match="boundary-condition sheet"):
             FORMATS[name].write(sample("2d"), tmp_path, "x")
     assert not list(tmp_path.iterdir())
+
+
+def test_su2_periodic_sides_go_to_marker_periodic_not_symmetry(tmp_path):
+    # SU2 config_template.cfg: MARKER_PERIODIC= ( periodic marker, donor marker, rotation centre (3),
+    # rotation angles (3), translation (3) ); a marker has one condition only
+    mesh = built(span=0.02, span_cells=2, span_boundary="periodic")
+    write_case(mesh, tmp_path)
+    opts = su2_options(tmp_path / "plate.cfg")
+    items = [v.strip() for v in opts["MARKER_PERIODIC"].strip("() ").split(",")]
+    assert items[:2] == ["back", "front"] and [float(v) for v in items[2:]] == [0] * 8 + [pytest.approx(0.02)]
+    sym = [v.strip() for v in opts.get("MARKER_SYM", "( )").strip("() ").split(",") if v.strip()]
+    assert "front" not in sym and "back" not in sym

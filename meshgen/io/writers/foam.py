@@ -24,6 +24,7 @@ anything else -> ``patch``; front/back -> ``empty`` on the one-layer extrusion o
 mesh (OpenFOAM's way to solve 2-D), and on a 3-D mesh what ``domain.span_boundary``
 chose (``meshing.mesh.span_boundary``): ``symmetryPlane`` or ``patch``, the same choice
 the CGNS writer's families carry.
+The groups of a periodic pair become ``cyclic`` patches (``foam_cyclic.py``).
 
 A 2-D Mesh is extruded to one layer first. The span defaults to :func:`extrusion_span`:
 1/100 of the domain's streamwise extent, at most 1 m. It depends on the domain only, so
@@ -34,7 +35,7 @@ force coefficients); it is written in the header note of ``points``.
 from __future__ import annotations
 
 import re
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 
 import numpy as np
@@ -44,13 +45,15 @@ from ...core.errors import MeshError, WriteError
 from ...meshing.mesh import Mesh, extrude, span_boundary
 from ...meshing.verify import HEX_FACES, cell_faces, is_tensor_grid
 from ..atomic import atomic_dir
+from .foam_cyclic import cyclic_entries, cyclic_patches
 from .registry import Format, register
 from .su2 import ascii_blocks
 
 #: OpenFOAM patch type per group role; front/back follow SPAN_PATCH.
 PATCH_TYPE = {"wall": "wall", "symmetry": "symmetryPlane"}
 #: OpenFOAM patch type of the front and back faces per span boundary.
-SPAN_PATCH = {"symmetry": "symmetryPlane", "patch": "patch", "empty": "empty"}
+SPAN_PATCH = {"symmetry": "symmetryPlane", "patch": "patch", "empty": "empty",
+              "periodic": "patch"}  # periodic: "cyclic" where the mesh carries the pair (foam_cyclic.py)
 #: A patch name OpenFOAM reads as a word (no whitespace, quotes, ; { } ( ) /).
 WORD = re.compile(r"[A-Za-z_][A-Za-z0-9_.+-]*")
 #: Largest default span of a one-layer extrusion [m].
@@ -67,6 +70,7 @@ class PolyMesh:
     neighbour: np.ndarray
     patches: tuple[tuple[str, str, int, int], ...]  # (name, type, startFace, nFaces)
     n_cells: int
+    cyclic: dict = field(default_factory=dict)  # {patch: (neighbourPatch, separationVector)}
 
 
 def extrusion_span(mesh: Mesh) -> float:
@@ -276,6 +280,8 @@ def polymesh(mesh: Mesh) -> PolyMesh:
         kind = SPAN_PATCH[span] if g.role in ("front", "back") else PATCH_TYPE.get(g.role, "patch")
         patches.append((g.name, kind, start, n))
         start += n
+    cyclic = cyclic_patches(mesh, faces, owner, patches)
+    patches = [(name, "cyclic" if name in cyclic else kind, s, n) for name, kind, s, n in patches]
     return PolyMesh(
         points=mesh.points,
         faces=faces,
@@ -283,6 +289,7 @@ def polymesh(mesh: Mesh) -> PolyMesh:
         neighbour=nei,
         patches=tuple(patches),
         n_cells=mesh.n_cells,
+        cyclic=cyclic,
     )
 
 
@@ -314,6 +321,7 @@ def _boundary(pm: PolyMesh) -> bytes:
             f"        type            {kind};",
             f"        nFaces          {n};",
             f"        startFace       {start};",
+            *([] if name not in pm.cyclic else cyclic_entries(*pm.cyclic[name])),
             "    }",
         ]
     return ("\n".join(entries) + "\n)\n").encode()

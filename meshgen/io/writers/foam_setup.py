@@ -17,7 +17,8 @@ conditions"):
   model (k-omega SST, or laminar for a laminar case).
 
 The patches are those the ``polymesh`` writer makes of the same Mesh: every group with its
-patch type, and for a 2-D mesh ``front`` and ``back`` of type ``empty``. The values come
+patch type (``cyclic`` for a periodic pair, whose fields are ``type cyclic;``), and for a
+2-D mesh ``front`` and ``back`` of type ``empty``. The values come
 from ``mesh.meta["boundary_conditions"]`` (the pipeline attaches ``bc.json``'s sheet);
 a mesh without it raises WriteError. Wall functions follow the case's wall treatment:
 resolved -> nutLowReWallFunction, wall-functions -> nutkWallFunction, blended ->
@@ -97,7 +98,9 @@ def patches(mesh: Mesh) -> list[tuple[str, str, str]]:
     from ...meshing.mesh import span_boundary
 
     span = "empty" if mesh.dim == 2 else span_boundary(mesh)
-    out = [(g.name, g.role, SPAN_PATCH[span] if g.role in ("front", "back") else PATCH_TYPE.get(g.role, "patch"))
+    cyclic = {n for p in mesh.periodic for n in (p.source, p.target)}  # cyclic patches (foam_cyclic.py)
+    out = [(g.name, g.role, "cyclic" if g.name in cyclic else
+            SPAN_PATCH[span] if g.role in ("front", "back") else PATCH_TYPE.get(g.role, "patch"))
            for g in mesh.groups]
     if mesh.dim == 2:
         out += [("back", "back", "empty"), ("front", "front", "empty")]
@@ -127,7 +130,7 @@ def field_file(field: str, mesh: Mesh, sheet: dict) -> str:
     treatment = sheet.get("wall", {}).get("treatment", "resolved")
     blocks = []
     for name, role, kind in patches(mesh):
-        if kind in ("symmetryPlane", "empty"):  # constraint patches: the field follows the patch type
+        if kind in ("symmetryPlane", "empty", "cyclic"):  # constraint patches: the field follows the patch type
             text = f"type {kind};"
         else:
             text = _conditions(role, field, free, treatment)

@@ -32,6 +32,10 @@ the coordinates in C's ``%.16g`` (as gmsh prints them); ``$Elements`` as ``tag t
 physical entity nodes...``, numbered 1.. in file order (the facets, group by group, then
 the cells), as gmsh renumbers them in this version.
 
+A periodic pair of groups (``Mesh.periodic``) adds a ``$Periodic`` section after the
+elements (both versions): the target group's entity is the image of the source's under the
+translation, with every node pair (:func:`periodic41`, :func:`periodic22`).
+
 Arrays are converted and written a block of CHUNK rows at a time, so the temporaries stay
 small whatever the mesh size; a lazy extrusion (``ExtrudedMesh``) is written from its
 base and planes block by block, without building its points or hexahedra.
@@ -45,6 +49,7 @@ from pathlib import Path
 import numpy as np
 
 from ...meshing.mesh import Mesh, bounds, cell_blocks, node_coordinates, point_blocks
+from ...meshing.periodic import node_pairs
 from ..atomic import atomic_file
 from .registry import Format, register
 from .su2 import ascii_blocks
@@ -140,6 +145,7 @@ def msh41_chunks(mesh: Mesh) -> Iterator[bytes | np.ndarray]:
     yield _ints(d, 1, GMSH_TYPE[mesh.cell_type]) + _sizes(m)
     yield from _element_tables(1, cell_blocks(mesh, CHUNK))
     yield b"\n$EndElements\n"
+    yield from periodic41(mesh)
 
 
 def msh22_chunks(mesh: Mesh) -> Iterator[bytes | np.ndarray]:
@@ -165,6 +171,48 @@ def msh22_chunks(mesh: Mesh) -> Iterator[bytes | np.ndarray]:
             yield from ascii_blocks(cols, [b""] + [b" "] * (len(cols) - 1) + [b"\n"])
             tag += n
     yield b"$EndElements\n"
+    yield from periodic22(mesh)
+
+
+def _periodic_links(mesh: Mesh) -> Iterator[tuple[int, int, np.ndarray, np.ndarray]]:
+    """Per periodic pair: slave entity (the target group's), master entity (the source's),
+    the 4 x 4 affine map master -> slave by rows, and (slave, master) node tags."""
+    entity = {g.name: k for k, g in enumerate(mesh.groups, start=1)}
+    for p in mesh.periodic:  # a loop over the periodic pairs
+        tx, ty, tz = p.translation
+        affine = np.array([1, 0, 0, tx, 0, 1, 0, ty, 0, 0, 1, tz, 0, 0, 0, 1], dtype="<f8")
+        master, slave = node_pairs(mesh, p)
+        yield entity[p.target], entity[p.source], affine, np.stack([slave + 1, master + 1], axis=1)
+
+
+def periodic41(mesh: Mesh) -> Iterator[bytes]:
+    """The MSH 4.1 ``$Periodic`` section (binary), none without periodic pairs::
+
+        size_t links; per link: int dim, slave entity, master entity; size_t 16, 16 doubles
+        (the affine map, by rows); size_t node pairs, then (slave tag, master tag) size_t pairs
+
+    The nodes stay on the cell entity: gmsh reads the pairs back all the same (tested).
+    """
+    if not mesh.periodic:
+        return
+    yield b"$Periodic\n" + _sizes(len(mesh.periodic))
+    for slave, master, affine, pairs in _periodic_links(mesh):
+        yield _ints(mesh.dim - 1, slave, master) + _sizes(16) + affine.tobytes() + _sizes(pairs.shape[0])
+        yield np.ascontiguousarray(pairs, dtype="<u8")
+    yield b"\n$EndPeriodic\n"
+
+
+def periodic22(mesh: Mesh) -> Iterator[bytes]:
+    """The MSH 2.2 ``$Periodic`` section (ASCII), as gmsh writes it: ``dim slave master``,
+    ``Affine`` and 16 numbers, the pair count, then ``slave master`` per line."""
+    if not mesh.periodic:
+        return
+    yield f"$Periodic\n{len(mesh.periodic)}\n".encode()
+    for slave, master, affine, pairs in _periodic_links(mesh):
+        head = " ".join(f"{v:.16g}" for v in affine)
+        yield f"{mesh.dim - 1} {slave} {master}\nAffine {head}\n{pairs.shape[0]}\n".encode()
+        yield from ascii_blocks([pairs[:, 0], pairs[:, 1]], [b"", b" ", b"\n"])
+    yield b"$EndPeriodic\n"
 
 
 def _writer(chunks, suffix: str):

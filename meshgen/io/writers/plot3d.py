@@ -11,7 +11,8 @@ whole form; that reader always expects three indices per block, so it has no 2-D
 
 The companion JSON names every group with its role and, per piece, the 1-based block
 number and the 1-based index ranges ``imin..imax, jmin..jmax, kmin..kmax`` of the nodes
-it covers in that block. The grid file ends in ``.xyz`` rather than ``.p3d`` because
+it covers in that block, and (only for a mesh with periodic pairs) a ``periodic`` list: each
+group whose ``image`` group is it moved by ``translation`` [m]. The grid file ends in ``.xyz`` rather than ``.p3d`` because
 ParaView treats ``.p3d`` as its own JSON meta-file (from memory).
 
 Format reference: the PLOT3D User's Manual (NASA TM-101067, Walatka, Buning, Pierce and
@@ -223,7 +224,8 @@ def companion(mesh: Mesh, grid_name: str) -> dict:
             for n, b in enumerate(blocks, start=1)
         ],
         "groups": list(groups.values()),
-    }
+    } | ({} if not mesh.periodic else {"periodic": [
+        {"group": p.source, "image": p.target, "translation": list(p.translation)} for p in mesh.periodic]})
 
 
 def _outputs(out_dir: Path, stem: str) -> list[Path]:

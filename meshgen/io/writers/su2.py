@@ -15,7 +15,9 @@ hexahedra with quad markers). The trailing point and element indices are optiona
 description ("implied by the ordering"); they are written because older files carry them
 and some readers expect them, and SU2 skips them. Lines starting with ``%`` are comments; the file
 opens with one comment line per marker naming its role (wall, inlet, ...), which SU2 and
-meshio skip and :func:`meshgen.readers.su2.read_su2` uses to restore the roles.
+meshio skip and :func:`meshgen.readers.su2.read_su2` uses to restore the roles. A periodic
+pair adds two comment lines with the ``MARKER_PERIODIC`` line SU2's configuration needs
+(:func:`marker_periodic`); the markers themselves stay ordinary markers.
 
 The numbers are formatted by :func:`ascii_blocks`, a vectorised table formatter (integers
 four digits at a time from a table of 0..9999, floats through ``repr`` of their distinct
@@ -227,12 +229,28 @@ def check_tags(mesh: Mesh) -> None:
         raise WriteError(f"SU2 marker tags repeat: {names}; each group needs its own name")
 
 
+def marker_periodic(pairs) -> str:
+    """SU2's configuration line for periodic marker pairs (``PeriodicPair``s).
+
+    Format from SU2's config_template.cfg: ``MARKER_PERIODIC= ( periodic marker, donor marker,
+    rotation_center_x, _y, _z, rotation_angle_x, _y, _z, translation_x, _y, _z, ... )``; the
+    translation goes from the periodic marker to the donor (as in SU2's own periodic test
+    cases, x_minus to x_plus with (1, 0, 0)).
+    """
+    items = []
+    for p in pairs:  # a loop over the periodic pairs
+        items += [p.source, p.target] + ["0.0"] * 6 + [repr(float(v) + 0.0) for v in p.translation]
+    return "MARKER_PERIODIC= ( " + ", ".join(items) + " )"
+
+
 def su2_chunks(mesh: Mesh) -> list[bytes | np.ndarray]:
     """The whole file as byte chunks (bytes or uint8 arrays), in the order of the published description."""
     check_tags(mesh)
     d = mesh.dim
     head = [f"% SU2 mesh written by meshgen {__version__}; {mesh.n_cells} {mesh.cell_type} cells"]
     head += [f"% role of marker {g.name}: {g.role}" for g in mesh.groups]
+    if mesh.periodic:  # SU2 takes periodicity from its configuration file, not from the mesh
+        head += ["% periodic markers: put this line in the SU2 configuration file", "% " + marker_periodic(mesh.periodic)]
     head += [f"NDIME= {d}", f"NPOIN= {mesh.n_points}", ""]
     pts = mesh.points[:, :d]
     cols = [pts[:, k] for k in range(d)] + [np.arange(mesh.n_points, dtype=np.int64)]

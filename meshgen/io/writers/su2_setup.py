@@ -14,7 +14,8 @@ sheet, for SU2's incompressible solver (a steady low-speed flat plate):
   VELOCITY_INLET (marker, temperature [K], speed [m/s], direction 1 0 0), outlet ->
   MARKER_OUTLET with INC_OUTLET_TYPE= PRESSURE_OUTLET (marker, gauge pressure 0),
   farfield -> MARKER_FAR, symmetry and front/back -> MARKER_SYM (SU2 has no
-  condition-free marker: a "patch" front/back is written there too, with a note);
+  condition-free marker: a "patch" front/back is written there too, with a note); a
+  periodic pair goes in MARKER_PERIODIC instead (rotation none, translation the span);
 * MESH_FILENAME naming ``<stem>.su2`` (or the ``cgns-single`` file when that is the one
   written), and the wall as the plotting and monitoring marker.
 
@@ -31,6 +32,7 @@ from ...meshing.mesh import Mesh, span_boundary
 from ..atomic import write_text
 from .foam_setup import sheet_of
 from .registry import Format, register
+from .su2 import marker_periodic
 
 
 def _outputs(out_dir: Path, stem: str) -> list[Path]:
@@ -81,7 +83,10 @@ def config_text(mesh: Mesh, sheet: dict, stem: str) -> str:
         lines.append("MARKER_OUTLET= ( " + ", ".join(f"{n}, 0.0" for n in roles["outlet"]) + " )")
     if "farfield" in roles:
         lines.append("MARKER_FAR= ( " + ", ".join(roles["farfield"]) + " )")
-    sym = roles.get("symmetry", []) + roles.get("back", []) + roles.get("front", [])
+    periodic = {n for p in mesh.periodic for n in (p.source, p.target)}
+    sym = [n for n in roles.get("symmetry", []) + roles.get("back", []) + roles.get("front", []) if n not in periodic]
+    if mesh.periodic:
+        lines.append(marker_periodic(mesh.periodic))
     if (roles.get("front") or roles.get("back")) and span_boundary(mesh) == "patch":
         lines.append("% front/back are plain patches in the mesh (domain.span_boundary = patch); SU2 needs a "
                      "condition for every marker, so they are listed as symmetry: change it if you meant another")
