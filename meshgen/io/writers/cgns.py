@@ -47,8 +47,6 @@ follows the family finds the type there. Types by role (SIDS BCType_t): wall -> 
 BCFarfield, symmetry -> BCSymmetryPlane; front/back follow ``domain.span_boundary``
 (``meshing.mesh.span_boundary``): symmetry -> BCSymmetryPlane, patch -> UserDefined (the name BCTypeUserDefined has in files)
 (the solver set-up decides).
-A periodic pair of groups (``Mesh.periodic``) is written as periodic 1-to-1 connectivity
-instead of BCs (``cgns_periodic.py``, structured zones only).
 
 Sources: CGNS SIDS (cgns.github.io, "CGNS/SIDS"); CGNS/HDF5 file mapping
 ("CGNS/HDF5 - An HPC implementation") and the attribute types as the CGNS library's
@@ -66,9 +64,8 @@ import numpy as np
 
 from ...core.errors import WriteError
 from ...meshing.mesh import Mesh, cell_blocks, grid_planes, point_blocks, span_boundary
-from ...meshing.periodic import with_periodic
 from ..atomic import atomic_file
-from .cgns_periodic import check_unstructured, periodic_names, write_periodic
+from .cgns_periodic import for_writing, periodic_names, zone_connectivity
 from .plot3d import grid_blocks, grid_shape, group_pieces
 from .registry import Format, register
 
@@ -81,8 +78,7 @@ ROLE_BC = {
     "symmetry": "BCSymmetryPlane",
 }
 #: BC type of the front and back faces per ``domain.span_boundary``.
-SPAN_BC = {"symmetry": "BCSymmetryPlane", "patch": "UserDefined", "empty": "UserDefined",
-           "periodic": "UserDefined"}  # periodic: connectivity in zones, a plain group in one zone
+SPAN_BC = {"symmetry": "BCSymmetryPlane", "patch": "UserDefined", "empty": "UserDefined", "periodic": "UserDefined"}
 #: SIDS ElementType_t values (cgnslib.h): BAR_2, QUAD_4, HEXA_8.
 ELEMENT_TYPE = {"line": 3, "quad": 7, "hexahedron": 17}
 #: The CGNS library version this file claims; readers refuse files newer than themselves.
@@ -274,9 +270,7 @@ def _write_structured(tree: _Tree, mesh: Mesh) -> None:
         taken: set[str] = set()
         for pc in (p for p in pieces if p.block == bi and p.group not in periodic_names(mesh)):
             tree.bc(zbc, _unique(pc.group, taken), pc.group, pc.lo[:dim], pc.hi[:dim])
-        if len(blocks) > 1 or mesh.periodic:
-            zgc = tree.node(zone, "ZoneGridConnectivity", "ZoneGridConnectivity_t")
-            write_periodic(tree, zgc, zname, bi, pieces, mesh)
+        zgc = zone_connectivity(tree, zone, zname, bi, pieces, mesh, len(blocks) > 1)  # periodic pairs too
         if len(blocks) > 1:
             full = [nj, nk][: dim - 1]
             for side, other in (("imin", bi - 1), ("imax", bi + 1)):
@@ -310,9 +304,10 @@ def _point_coordinate(mesh: Mesh, axis: int) -> Pieces:
     """Coordinate ``axis`` of every node, in node order, block by block."""
     step = max(1, PIECE_VALUES // 3)
 
-    def pieces():
-        for s, p in zip(range(0, mesh.n_points, step), point_blocks(mesh, step)):
-            yield slice(s, s + p.shape[0]), p[:, axis]
+    def pieces():  # a lazy extrusion's blocks end at each node plane: place each by its own length
+        s = 0
+        for p in point_blocks(mesh, step):
+            yield slice(s, s := s + p.shape[0]), p[:, axis]
 
     return Pieces((mesh.n_points,), "<f8", pieces())
 
@@ -384,11 +379,7 @@ def write_single(mesh: Mesh, out_dir: Path, stem: str) -> list[Path]:
 def _write(mesh: Mesh, target: Path, single: bool) -> list[Path]:
     import h5py
 
-    if single and mesh.periodic:
-        # one unstructured zone serves SU2, which takes periodicity from its configuration
-        # (MARKER_PERIODIC on the BC sheet): the pair stays two ordinary groups here
-        mesh = with_periodic(mesh, ())
-    check_unstructured(mesh)
+    mesh = for_writing(mesh, single)  # periodic pairs: structured zones only, plain groups in one zone
     for g in mesh.groups:  # fail before a file exists
         _bc_type(g.role, g.name)
         _check_name(g.name, "group name")

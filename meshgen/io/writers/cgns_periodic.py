@@ -25,6 +25,7 @@ import numpy as np
 
 from ...core.errors import WriteError
 from ...meshing.mesh import Mesh
+from ...meshing.periodic import with_periodic
 
 NAME_LENGTH = 32
 #: DimensionalExponents (mass, length, time, temperature, angle) of a length and of an angle.
@@ -76,6 +77,23 @@ def write_periodic(tree, zgc, zone_name: str, block: int, pieces: list, mesh: Me
                 tree.node(arr, "DimensionalExponents", "DimensionalExponents_t", "R4", exponents.copy())
 
 
-def check_unstructured(mesh: Mesh) -> None:
+def zone_connectivity(tree, zone, zone_name: str, block: int, pieces: list, mesh: Mesh, interfaces: bool):
+    """The zone's ZoneGridConnectivity node, with its periodic connections, when it has
+    block interfaces or periodic pairs (else None)."""
+    if not (interfaces or mesh.periodic):
+        return None
+    zgc = tree.node(zone, "ZoneGridConnectivity", "ZoneGridConnectivity_t")
+    write_periodic(tree, zgc, zone_name, block, pieces, mesh)
+    return zgc
+
+
+def for_writing(mesh: Mesh, single: bool) -> Mesh:
+    """The mesh a CGNS file is written from. The one-zone file (``cgns-single``) keeps a
+    periodic pair as two ordinary groups (typed UserDefined): it serves SU2, which takes
+    periodicity from its configuration (MARKER_PERIODIC, on the BC sheet and in su2-setup).
+    Zones per block carry the pair as connectivity, which needs the structured layout."""
+    if single:
+        return with_periodic(mesh, ()) if mesh.periodic else mesh
     if mesh.periodic and mesh.shape is None:
         raise WriteError("CGNS: periodic pairs are written for structured meshes only (the mesh has no layout)")
+    return mesh
