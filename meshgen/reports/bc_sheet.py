@@ -49,6 +49,7 @@ ROLE_CONDITIONS = {
 SPAN_CONDITIONS = {
     "symmetry": "spanwise face: symmetry plane (domain.span_boundary = symmetry), the same type in every format",
     "patch": "spanwise face: plain patch (domain.span_boundary = patch); your solver set-up gives its condition",
+    "periodic": "spanwise face: periodic with the opposite one (domain.span_boundary = periodic; see Periodic span)",
 }
 
 
@@ -162,7 +163,7 @@ def bc_sheet(plan: Plan) -> dict:
         "turbulence": turbulence_values(plan),
         "wall": wall_condition(plan),
         "groups": [{"name": n, "role": r, "condition": ROLE_CONDITIONS.get(r) or
-                    SPAN_CONDITIONS[plan.case.domain.span_boundary]} for n, r in groups],
+                    SPAN_CONDITIONS[plan.span_boundary]} for n, r in groups],
         "cells": plan.case.names.fluid,
     } | span_sheet(plan)
 

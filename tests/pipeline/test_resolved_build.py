@@ -65,5 +65,7 @@ def test_build_writes_periodic_sides(built):
     assert "$Periodic" in (built / "fairing-strip.msh").read_bytes().decode("latin-1")
     assert "MARKER_PERIODIC= ( back, front," in (built / "bc.md").read_text()
     sheet = json.loads((built / "bc.json").read_text())
+    front = next(g for g in sheet["groups"] if g["name"] == "front")
+    assert "periodic" in front["condition"]  # the default of a scale-resolving kind
     assert sheet["periodic"]["translation"][2] == pytest.approx(json.loads(
         (built / "plan.json").read_text())["resolution"]["span"], rel=1e-12)
