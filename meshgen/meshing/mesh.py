@@ -222,6 +222,14 @@ class ExtrudedMesh(Mesh):
         np.add(q, layer + n2, out=out[:, :, 4:])
         return out.reshape(-1, 8)
 
+    def first_layers(self, n: int) -> np.ndarray:
+        """``layer_cells(0, n)``, kept for the next call (slabs of a few planes reuse it)."""
+        kept = self.__dict__.setdefault("_first_layers", {})
+        if n not in kept:
+            kept.clear()  # one size at a time: slabs come in one or two sizes
+            kept[n] = self.layer_cells(0, n)
+        return kept[n]
+
     @cached_property
     def points(self) -> np.ndarray:  # type: ignore[override]
         return self.plane_points(0, self.z.size)
@@ -350,7 +358,7 @@ def plane_slab(mesh: Mesh, k0: int, k1: int) -> Mesh:
     ni, nj = mesh.shape[0], mesh.shape[1]
     n2, m2 = ni * nj, (ni - 1) * (nj - 1)
     if isinstance(mesh, ExtrudedMesh) and not mesh.built():
-        points, cells = mesh.plane_points(k0, k1), mesh.layer_cells(0, k1 - k0 - 1)
+        points, cells = mesh.plane_points(k0, k1), mesh.first_layers(k1 - k0 - 1)
     else:
         points, cells = mesh.points[k0 * n2:k1 * n2], mesh.cells[k0 * m2:(k1 - 1) * m2] - k0 * n2
     return Mesh(points, cells, (), shape=(ni, nj, k1 - k0), blocks=mesh.blocks, cell_group=mesh.cell_group)

@@ -16,7 +16,15 @@ import numpy as np
 
 from ..meshing.mesh import ExtrudedMesh, Mesh, bounds, grid_planes, plane_slab
 from ..meshing.verify import is_tensor_grid
-from .cell_metrics import VERDICT, _chunks, _hex_centre, _hex_corner_min, cell_metrics
+from .cell_metrics import (
+    EXTRUDED_NOTE,
+    VERDICT,
+    _chunks,
+    cell_metrics,
+    quad_metrics,
+    swept_centre,
+    swept_corner_min,
+)
 from .structure import _structured_angles, growth_ratios, non_orthogonality, recover_structure
 
 #: Metric -> (unit, acceptable low, acceptable high, source of the range).
@@ -88,23 +96,31 @@ def _layered_values(mesh: Mesh, dz: np.ndarray) -> tuple[dict[str, Parts], list[
     """The report's metrics of an exact extrusion (``exact_layers``) as ``Parts``: each
     distinct layer thickness computed on its first layer, counted for all its layers.
 
-    Each layer is computed on a Mesh of its own two node planes (``plane_slab``), so the
-    whole mesh's points and hexahedra are never needed (a lazy extrusion stays lazy)."""
+    The hexahedra's metrics come from layer 0's quads and each distinct layer's z
+    (``swept_corner_min``, ``swept_centre``: the same numbers bit for bit), the angles
+    from two-plane slabs (``plane_slab``), so the whole mesh's points and hexahedra are
+    never needed (a lazy extrusion stays lazy)."""
     ni, nj, nk = mesh.shape
     n2c, n_layers = (ni - 1) * (nj - 1), nk - 1
     thick, first, count = np.unique(dz, return_index=True, return_counts=True)
+    # Layer 0's quads and xy are every layer's (an exact extrusion): the base-face metrics
+    # come from them once, and each distinct layer's hex Jacobians from them and its z.
+    slab = plane_slab(mesh, 0, 2)
+    quads = np.ascontiguousarray(slab.cells[:, :4])
+    x, y = (np.ascontiguousarray(slab.points[:, a]) for a in (0, 1))
+    base = {k: np.empty(n2c) for k in ("area", "aspect_ratio", "edge_ratio", "skew")}
+    for s, e in _chunks(n2c):  # chunks of quads, not quads
+        q = quads[s:e]
+        for key, v in quad_metrics(x[q], y[q]).items():
+            if key in base:
+                base[key][s:e] = v
+    corner_min = swept_corner_min(x, y, quads, thick)
     values: dict[str, Parts] = {"scaled_jacobian": []}  # filled below, first as in cell_metrics
-    notes: list[str] = []
-    corner_min = {}
-    for k, w in zip(first, count):  # distinct thicknesses: a few (rounding of linspace)
-        layer = plane_slab(mesh, k, k + 2)
-        comp = [np.ascontiguousarray(layer.points[:, a]) for a in range(3)]
-        v, notes = cell_metrics(Mesh(layer.points, layer.cells, ()))
-        corner_min[dz[k]] = np.concatenate([_hex_corner_min(comp, layer.cells[s:e]) for s, e in _chunks(n2c)])
-        values.setdefault("volume", []).append((v["volume"], int(w)))  # base area x dz
-        for key in ("aspect_ratio", "edge_ratio", "skew"):  # the base face's: the same every layer
-            if key in v and key not in values:
-                values[key] = [(v[key], n_layers)]
+    # base area x dz: the volume of a right prism, as cell_metrics computes it
+    values["volume"] = [(base["area"] * d, int(w)) for d, w in zip(thick, count)]
+    for key in ("aspect_ratio", "edge_ratio", "skew"):  # the base face's: the same every layer
+        values[key] = [(base[key], n_layers)]
+    notes = [EXTRUDED_NOTE]
     # The corner Jacobians see a layer only through dz; the centre one also through the
     # z components of its principal axes, sums of the plane z (rounding differs from
     # layer to layer), so it is computed once per distinct (dz, axes' z) of the layers.
@@ -112,12 +128,10 @@ def _layered_values(mesh: Mesh, dz: np.ndarray) -> tuple[dict[str, Parts], list[
     b, t = z[:-1], z[1:]
     side = b + b + t + t - b - b - t - t  # z of X1 and of X2: node order of _hex_centre
     key = np.stack([dz, side, t + t + t + t - b - b - b - b], axis=1)
-    _, first_k, count_k = np.unique(key, axis=0, return_index=True, return_counts=True)
-    for k, w in zip(first_k, count_k):  # distinct layer keys: a few tens at most
-        layer = plane_slab(mesh, k, k + 2)
-        comp = [np.ascontiguousarray(layer.points[:, a]) for a in range(3)]
-        centre = np.concatenate([_hex_centre(comp, layer.cells[s:e]) for s, e in _chunks(n2c)])
-        values["scaled_jacobian"].append((np.minimum(corner_min[dz[k]], centre), int(w)))
+    distinct, count_k = np.unique(key, axis=0, return_counts=True)
+    centre = swept_centre(x, y, quads, distinct[:, 1:])
+    for (d, sd, tp), w in zip(distinct.tolist(), count_k):  # distinct layer keys: a few tens at most
+        values["scaled_jacobian"].append((np.minimum(corner_min[d], centre[(sd, tp)]), int(w)))
     for axis, r in growth_ratios(plane_slab(mesh, 0, 2)).items():
         if axis != "k":
             values[f"growth_ratio_{axis}"] = [(r, n_layers)]
@@ -133,7 +147,7 @@ def _layered_values(mesh: Mesh, dz: np.ndarray) -> tuple[dict[str, Parts], list[
     notes.append(f"exact z-extrusion of {n_layers} uniform layers: metrics computed on one layer "
                  f"per distinct layer thickness ({thick.size}, differing only by the rounding of the "
                  f"plane z; the scaled Jacobian on one layer per distinct thickness and plane-z sums, "
-                 f"{first_k.size}) and counted for every layer, instead of on every cell")
+                 f"{distinct.shape[0]}) and counted for every layer, instead of on every cell")
     return values, notes
 
 
@@ -174,29 +188,79 @@ def _percentiles(v: np.ndarray, cum: np.ndarray | None = None) -> list[float]:
     return list(np.where(t >= 0.5, b - d * (1 - t), a + d * t))
 
 
+def _order_key(v: np.ndarray) -> np.ndarray:
+    """int64 keys in the order of the float64 values ``v`` (IEEE bits, negatives flipped)."""
+    i = np.asarray(v, dtype=np.float64).view(np.int64)
+    return i ^ ((i >> 63) & np.int64(0x7FFFFFFFFFFFFFFF))
+
+
+def _key_value(key: int) -> float:
+    i = np.int64(key)
+    return float((i ^ ((i >> 63) & np.int64(0x7FFFFFFFFFFFFFFF))).view(np.float64))
+
+
+def _weighted_ranks(parts: Parts, ranks: np.ndarray) -> np.ndarray:
+    """The values of 0-based ``ranks`` in the sorted multiset where each value of a part
+    counts its part's multiplicity, without joining the parts: each part is sorted on its
+    own and each rank found by bisection over the float order (at most 64 steps, each a
+    binary search per part), so memory stays at the parts' own size."""
+    parts = [(np.sort(v), w) for v, w in parts]
+
+    def above(value: float) -> int:  # how many values are <= value
+        return sum(w * int(np.searchsorted(v, value, side="right")) for v, w in parts)
+
+    lo0 = int(_order_key(min(v[0] for v, _ in parts)))
+    hi0 = int(_order_key(max(v[-1] for v, _ in parts)))
+    out = []
+    for r in ranks.tolist():  # five percentiles, two ranks each
+        lo, hi = lo0, hi0  # the answer's key lies in [lo, hi]
+        while lo < hi:
+            mid = (lo + hi) // 2
+            if above(_key_value(mid)) > r:
+                hi = mid
+            else:
+                lo = mid + 1
+        out.append(_key_value(lo))
+    return np.array(out)
+
+
+def _weighted_percentiles(parts: Parts, n: int) -> list[float]:
+    """:func:`_percentiles` of ``Parts`` (``n`` values counted with their multiplicities)."""
+    if any(np.isnan(v).any() for v, _ in parts):
+        return [np.nan] * len(PERCENTILES)
+    h = (n - 1) * np.true_divide(PERCENTILES, 100)
+    below = np.floor(h)
+    t = h - below
+    lo = below.astype(np.int64)
+    hi = np.minimum(lo + 1, n - 1)
+    a, b = np.split(_weighted_ranks(parts, np.concatenate([lo, hi])), 2)
+    d = b - a
+    return list(np.where(t >= 0.5, b - d * (1 - t), a + d * t))
+
+
 def summarise(name: str, values: np.ndarray | Parts, limits: tuple | None = None) -> dict:
     """min, max, mean, percentiles and the count outside the acceptable range (each end
     widened by ULP_SLACK ulp, so round-off on a perfect cell is not counted).
 
-    ``values`` is one value per cell (or face), or ``Parts``: (values, multiplicity) pairs;
-    ``limits`` replaces the metric's LIMITS entry.
+    ``values`` is one value per cell (or face), or ``Parts``: (values, multiplicity) pairs,
+    summarised part by part (no array of the whole count is made); ``limits`` replaces
+    the metric's LIMITS entry.
     """
     unit, lo, hi, source = limits or LIMITS[name]
     if isinstance(values, list):
-        parts = [(np.asarray(v, dtype=float), int(w)) for v, w in values if np.size(v) and w]
+        parts = [(np.asarray(v, dtype=float).ravel(), int(w)) for v, w in values if np.size(v) and w]
         n = sum(v.size * w for v, w in parts)
-        flat = np.concatenate([v for v, _ in parts]) if parts else np.empty(0)
-        weight = np.concatenate([np.full(v.size, w, dtype=np.int64) for v, w in parts]) if parts else None
     else:
         flat = np.asarray(values, dtype=float)
-        n, parts, weight = flat.size, None, None
+        n, parts = flat.size, None
     out = {"unit": unit, "count": int(n), "min": None, "max": None, "mean": None}
-    if n:
-        order = np.argsort(flat, kind="stable") if weight is not None else None
-        v = flat[order] if order is not None else np.sort(flat)
-        pct = _percentiles(v, None if order is None else np.cumsum(weight[order]))
-        mean = flat.mean() if parts is None else sum(p.sum() * w for p, w in parts) / n
-        out.update(min=_num(flat.min()), max=_num(flat.max()), mean=_num(mean))
+    if n and parts is None:
+        pct = _percentiles(np.sort(flat))
+        out.update(min=_num(flat.min()), max=_num(flat.max()), mean=_num(flat.mean()))
+    elif n:
+        pct = _weighted_percentiles(parts, n)
+        out.update(min=_num(np.min([v.min() for v, _ in parts])), max=_num(np.max([v.max() for v, _ in parts])),
+                   mean=_num(sum(v.sum() * w for v, w in parts) / n))
     else:
         pct = [np.nan] * len(PERCENTILES)
     out.update({f"p{q}": _num(x) for q, x in zip(PERCENTILES, pct)})
@@ -205,7 +269,7 @@ def summarise(name: str, values: np.ndarray | Parts, limits: tuple | None = None
         lo_in, hi_in = lo - slack * max(abs(lo), 1.0), hi + slack * max(abs(hi), 1.0)
         bad = (lambda a: int(np.count_nonzero((a < lo_in) | (a > hi_in))))
         out.update(acceptable=[lo, hi], range_source=source,
-                   outside=bad(flat) if parts is None else sum(bad(p) * w for p, w in parts))
+                   outside=bad(flat) if parts is None else sum(bad(v) * w for v, w in parts))
     return out
 
 

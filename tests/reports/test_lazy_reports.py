@@ -28,3 +28,25 @@ def test_quality_and_boundary_layer_reports_are_the_built_mesh_s(tmp_path):
     assert [p.name for p in pictures] == ["mesh.png", "spacing.png", "y_plus.png"]
     whole = Mesh(m.points, m.cells, m.groups, m.shape, m.blocks)
     assert json.dumps(report) == json.dumps(q.quality_report(whole, boundary_layer_report(whole, *args)))
+
+
+def test_swept_jacobians_are_the_per_cell_ones_bit_for_bit():
+    """The per-layer shortcut must give exactly _hex_corner_min and _hex_centre's numbers."""
+    from meshgen.meshing.mesh import plane_slab
+    from meshgen.reports.cell_metrics import _hex_centre, _hex_corner_min, swept_centre, swept_corner_min
+
+    rng = np.random.default_rng(3)
+    base = lazy().base
+    points = base.points.copy()
+    points[:, :2] += rng.normal(scale=1e-3, size=(base.n_points, 2))  # skewed quads
+    m = extrude(Mesh(points, base.cells, base.groups, base.shape, base.blocks), [0.1, 0.1 + 1 / 3, 0.7, 1.1])
+    quads = base.cells
+    x, y = points[:, 0].copy(), points[:, 1].copy()
+    for k in range(3):
+        slab = plane_slab(m, k, k + 2)
+        comp = [np.ascontiguousarray(slab.points[:, a]) for a in range(3)]
+        b, t = m.z[k], m.z[k + 1]
+        dz = t - b
+        side, top = b + b + t + t - b - b - t - t, t + t + t + t - b - b - b - b
+        assert np.array_equal(swept_corner_min(x, y, quads, [dz])[dz], _hex_corner_min(comp, slab.cells))
+        assert np.array_equal(swept_centre(x, y, quads, [(side, top)])[(side, top)], _hex_centre(comp, slab.cells))

@@ -641,3 +641,17 @@ def test_weighted_summary_equals_the_repeated_values():
     plain = rng.random(1001)
     pct = np.percentile(plain, q.PERCENTILES)
     assert [q.summarise("skew", plain)[f"p{p}"] for p in q.PERCENTILES] == list(pct)
+
+
+def test_weighted_summary_with_signs_ties_and_zeros_equals_the_repeated_values():
+    # np.percentile (linear) on the repeated array is the definition; negative values,
+    # zeros and ties across parts exercise the ordering of the weighted ranks.
+    rng = np.random.default_rng(11)
+    a = np.round(rng.normal(size=53), 1)
+    b = np.concatenate([np.zeros(5), -a[:7], [1e-300, -1e-300]])
+    c = np.full(4, 0.5)
+    parts = q.summarise("skew", [(a, 3), (b, 5), (c, 11)])
+    full = q.summarise("skew", np.concatenate([np.tile(a, 3), np.tile(b, 5), np.tile(c, 11)]))
+    for key in ("count", "min", "max", "p1", "p5", "p50", "p95", "p99", "outside"):
+        assert parts[key] == full[key], key
+    assert math.isclose(parts["mean"], full["mean"], rel_tol=1e-14)
