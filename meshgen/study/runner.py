@@ -229,6 +229,9 @@ def run_study(study: Study, root: str | Path, workers: int = 1, force: bool = Fa
 def _run_locked(study: Study, root: Path, workers: int, force: bool, scheduler: str | None,
                 stream: TextIO | None) -> RunReport:
     entries, todo, skipped = _triage(study, root, force)
+    # Largest first: the finest member bounds the run's time, so it starts at once and the
+    # others fill the remaining workers (a stable sort keeps equal members in order).
+    todo.sort(key=lambda item: -item[0].plan.cell_count)
     client = connect(scheduler) if scheduler and todo else None
     manifest_path = root / study.manifest_name
     manifest = {**study.header, "kind": study.kind, CREATED: utc_now(), study.members_key: entries}

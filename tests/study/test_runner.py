@@ -200,3 +200,14 @@ def test_dask_cluster_gives_the_local_checksums(tmp_path):
     for rel in local["levels"][0]["files"]:
         assert np.array_equal(np.fromfile(tmp_path / "dask" / rel, np.uint8),
                               np.fromfile(tmp_path / "local" / rel, np.uint8))
+
+
+def test_largest_member_is_built_first(tmp_path):
+    """With one worker the build order is the dispatch order: the largest member goes
+    first, so with more workers it never waits behind the small ones."""
+    st = small_family(3)
+    smallest_first = Study(st.kind, st.members_key, st.header, tuple(reversed(st.members)))
+    run_study(smallest_first, tmp_path / "out", workers=1)
+    built = sorted(st.members, key=lambda m: (tmp_path / "out" / m.name / "plan.json").stat().st_mtime_ns)
+    assert [m.name for m in built] == [m.name for m in st.members]  # level-0 (the largest) first
+    assert [m.plan.cell_count for m in built] == sorted((m.plan.cell_count for m in st.members), reverse=True)
