@@ -84,6 +84,27 @@ def job_raw(job: dict) -> dict:
     return {"samples": times, "bytes": int(mesh.points.nbytes + mesh.cells.nbytes), "cells": mesh.n_cells}
 
 
+def job_raw_bytes(job: dict) -> dict:
+    """Baseline B at the 3-D size: numpy writing as many bytes as a writer's file, raw, from
+    one 64 MiB buffer written again and again (the disk's rate for that size, without an
+    array of the whole size in memory)."""
+    import numpy as np
+
+    buf = np.full(1 << 23, 1.0)  # 64 MiB
+    path = Path(job["folder"]) / "raw.bin"
+    path.parent.mkdir(parents=True, exist_ok=True)
+    left = int(job["bytes"])
+    t = time.perf_counter()
+    with open(path, "wb") as f:
+        while left > 0:  # buffers, not values
+            view = memoryview(buf).cast("B")[: min(left, buf.nbytes)]
+            f.write(view)
+            left -= len(view)
+    seconds = time.perf_counter() - t
+    path.unlink()
+    return {"seconds": seconds, "bytes": int(job["bytes"])}
+
+
 def _phase_clock():
     """A progress callback that records the time between build_plan's progress messages."""
     marks: list[tuple[str, float]] = []
@@ -106,13 +127,25 @@ def job_build(job: dict) -> dict:
     from ..reports import bc_sheet, quality  # noqa: F401  (imported before the clock starts, as gmsh is for A)
 
     _formats()
+    if job.get("pictures"):  # matplotlib imported before the clock, as gmsh is (start-up is its own row)
+        import matplotlib
+
+        matplotlib.use("Agg")
+        import matplotlib.pyplot
+
+        from ..reports import plots  # noqa: F401
     plan = _plan(job["overrides"])
     fmts = resolve_formats(job["formats"], [])
     progress, phases = _phase_clock()
     t = time.perf_counter()
-    build_plan(plan, Path(job["folder"]), fmts, force=True, pictures=False, progress=progress)
+    written = build_plan(plan, Path(job["folder"]), fmts, force=True, pictures=bool(job.get("pictures")),
+                         progress=progress)
     end = time.perf_counter()
-    return {"seconds": end - t, "phases": phases(end), "cells": plan.cell_count}
+    sizes = {f.name: _size(p) for f in fmts for p in f.outputs(Path(job["folder"]), plan.case.name)
+             if p in written and p.exists()}
+    if job.get("cleanup"):
+        shutil.rmtree(job["folder"], ignore_errors=True)
+    return {"seconds": end - t, "phases": phases(end), "cells": plan.cell_count, "bytes": sizes}
 
 
 def job_write(job: dict) -> dict:
@@ -137,7 +170,7 @@ def job_write(job: dict) -> dict:
     return out
 
 
-JOBS = {"gmsh": job_gmsh, "raw": job_raw, "build": job_build, "write": job_write}
+JOBS = {"gmsh": job_gmsh, "raw": job_raw, "raw_bytes": job_raw_bytes, "build": job_build, "write": job_write}
 
 
 def _child(spec_path: str) -> None:

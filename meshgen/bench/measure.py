@@ -6,10 +6,12 @@ import math
 import os
 import platform
 import shutil
+import subprocess
+import sys
 import time
 from pathlib import Path
 
-from .config import GIB, GMSH_WRITTEN, MIB, Config, _formats, _plan, case_overrides
+from .config import GIB, GMSH_WRITTEN, MIB, NOT_STREAMED, Config, _formats, _plan, case_overrides
 from .jobs import _meminfo_bytes, run_child
 
 # ---- the measurements, run from the parent ----------------------------------------------
@@ -60,6 +62,9 @@ def bench_builds(cfg: Config, workdir: Path, say) -> tuple[list[dict], dict]:
                 res = {"seconds": res["mesh_seconds"] + res["writers"]["msh"]["samples"][0], "peak_rss": res["peak_rss"],
                        "phases": {"mesh": res["mesh_seconds"], "msh": res["writers"]["msh"]["samples"][0]}}
             runs.setdefault(("mesh", n), []).append(res)
+            if n == cfg.writer_cells:  # the same build with its pictures
+                p = {**b, "pictures": True, "folder": str(workdir / f"p-{n}")}
+                runs.setdefault(("pictures", n), []).append(run_child(p, workdir))
     sizes = sorted(set(cfg.sizes) | {cfg.writer_cells})
     raw = {n: run_child({"kind": "raw", "overrides": case_overrides(n), "repeat": cfg.repeat,
                          "folder": str(workdir / "raw")}, workdir) for n in sizes}
@@ -67,7 +72,8 @@ def bench_builds(cfg: Config, workdir: Path, say) -> tuple[list[dict], dict]:
     for n, plan in plans.items():
         a, r = runs[("A", n)], raw[n]
         cells = plan.cell_count
-        problem = _err(a) or _err(runs[("build", n)]) or _err(runs[("mesh", n)]) or r.get("error")
+        problem = (_err(a) or _err(runs[("build", n)]) or _err(runs[("mesh", n)]) or _err(runs.get(("pictures", n), []))
+                   or r.get("error"))
         if problem:
             rows.append({"section": "build", "name": "error", "cells": cells, "error": problem})
             continue
@@ -78,7 +84,10 @@ def bench_builds(cfg: Config, workdir: Path, say) -> tuple[list[dict], dict]:
             {"section": "build", "name": "baseline B (numpy raw)", "cells": cells, "seconds": traw, "samples": r["samples"],
              "bytes": r["bytes"], "mbps": r["bytes"] / traw / 1e6, "peak_mib": r["peak_rss"] / MIB},
         ]
-        for key, name in (("build", "meshgen build (msh)"), ("mesh", "  mesh + msh only")):
+        for key, name in (("build", "meshgen build (msh)"), ("pictures", "meshgen build (msh, pictures)"),
+                          ("mesh", "  mesh + msh only")):
+            if (key, n) not in runs:
+                continue
             b = runs[(key, n)]
             tb, pb = _best([x["seconds"] for x in b]), max(x["peak_rss"] for x in b)
             rows.append({"section": "build", "name": name, "cells": cells, "seconds": tb,
@@ -114,17 +123,65 @@ def bench_writers(cfg: Config, workdir: Path, raw: dict, say) -> list[dict]:
 
 
 def bench_solid(cfg: Config, workdir: Path, say) -> list[dict]:
+    """The 3-D mesh built and written as MSH and CGNS by one build (with its quality
+    report, no pictures): time, phases, each file's rate and the peak memory."""
     cells2, span = cfg.solid
-    formats = [f for f in ("msh", "polymesh") if f in _formats()]
+    formats = ["msh", "cgns"]
     say(f"  3-D {cells2 * span:,} hexahedra: build, {' and '.join(formats)}")
-    res = run_child({"kind": "write", "overrides": case_overrides(cells2, span), "repeat": 1, "formats": formats,
-                     "folder": str(workdir / "solid")}, workdir)
+    res = run_child({"kind": "build", "overrides": case_overrides(cells2, span, blocks=3), "formats": formats,
+                     "folder": str(workdir / "solid"), "cleanup": True}, workdir)
     if "error" in res:
         return [{"section": "solid", "name": "error", "cells": cells2 * span, "error": res["error"]}]
-    phases = {"mesh": res["mesh_seconds"]} | {k: w["samples"][0] for k, w in res["writers"].items()}
+    sizes = res["bytes"]
+    rates = {f: sizes[f] / res["phases"][f] / 1e6 for f in formats}
     return [{"section": "solid", "name": "build + " + " + ".join(formats), "cells": res["cells"],
-             "seconds": sum(phases.values()), "phases": phases, "peak_mib": res["peak_rss"] / MIB,
-             "formats": formats, "bytes": sum(w["bytes"] for w in res["writers"].values())}]
+             "seconds": res["seconds"], "phases": res["phases"], "peak_mib": res["peak_rss"] / MIB,
+             "formats": formats, "bytes": sum(sizes.values()), "mbps": rates}]
+
+
+def bench_solid_writers(cfg: Config, workdir: Path, say) -> list[dict]:
+    """Each streamed writer on the 3-D mesh, each in its own child (its own peak memory),
+    right after numpy writing as many bytes raw (baseline B at that size)."""
+    cells2, span = cfg.solid
+    rows = []
+    for name in _formats():  # a handful of formats
+        if name in NOT_STREAMED:
+            rows.append({"section": "solid writers", "name": name, "cells": cells2 * span,
+                         "skipped": NOT_STREAMED[name]})
+            continue
+        say(f"  3-D {cells2 * span:,} hexahedra: {name}")
+        res = run_child({"kind": "write", "overrides": case_overrides(cells2, span, blocks=3), "repeat": 1,
+                         "formats": [name], "folder": str(workdir / "solid-writer")}, workdir)
+        if "error" in res:
+            rows.append({"section": "solid writers", "name": name, "cells": cells2 * span, "error": res["error"]})
+            continue
+        w = res["writers"][name]
+        raw = run_child({"kind": "raw_bytes", "bytes": w["bytes"], "folder": str(workdir / "raw-3d")}, workdir)
+        t = w["samples"][0]
+        rows.append({"section": "solid writers", "name": name, "cells": res["cells"], "seconds": t,
+                     "bytes": w["bytes"], "mbps": w["bytes"] / t / 1e6, "peak_mib": res["peak_rss"] / MIB,
+                     "raw_seconds": raw.get("seconds"),
+                     "x_b": t / raw["seconds"] if "seconds" in raw else None})
+    return rows
+
+
+def bench_startup(cfg: Config, say) -> list[dict]:
+    """``meshgen --help`` and ``--version`` against ``python -c "import numpy"`` (wall time of
+    a fresh interpreter each, the minimum of ``startup_repeat`` interleaved runs)."""
+    say("  start-up")
+    commands = {"python -c 'import numpy'": ["-c", "import numpy"], "meshgen --help": ["-m", "meshgen", "--help"],
+                "meshgen --version": ["-m", "meshgen", "--version"]}
+    env = dict(os.environ, PYTHONPATH=os.pathsep.join(
+        [str(Path(__file__).resolve().parents[2])] + [p for p in [os.environ.get("PYTHONPATH")] if p]))
+    samples: dict[str, list[float]] = {k: [] for k in commands}
+    for _ in range(cfg.startup_repeat):
+        for name, args in commands.items():
+            t = time.perf_counter()
+            subprocess.run([sys.executable, *args], check=True, env=env, capture_output=True)
+            samples[name].append(time.perf_counter() - t)
+    base = _best(samples["python -c 'import numpy'"])
+    return [{"section": "startup", "name": name, "seconds": _best(s), "samples": s, "x_numpy": _best(s) / base}
+            for name, s in samples.items()]
 
 
 def bench_family(cfg: Config, workdir: Path, say) -> list[dict]:
@@ -153,5 +210,11 @@ def bench_family(cfg: Config, workdir: Path, say) -> list[dict]:
                 shutil.rmtree(root, ignore_errors=True)
     except (TypeError, AttributeError, RuntimeError, MeshgenError) as exc:  # the runner's API is still moving
         return [{"section": "family", "name": "not available", "error": f"{type(exc).__name__}: {exc}"}]
+    # Two workers can gain at most total work / largest member (the finest level is about
+    # three quarters of a ratio-2 family's cells): the efficiency is measured against that.
+    bound = min(2.0, sum(cells) / max(cells))
+    speedup = _best(samples[1]) / _best(samples[2])
     return [{"section": "family", "name": f"{w} worker{'s' if w > 1 else ''}", "cells": cells,
-             "seconds": _best(samples[w]), "samples": samples[w]} for w in (1, 2)]
+             "seconds": _best(samples[w]), "samples": samples[w], "speedup": speedup if w == 2 else 1.0,
+             "speedup_bound": bound, "efficiency": (speedup if w == 2 else 1.0) / (bound if w == 2 else 1.0)}
+            for w in (1, 2)]

@@ -12,7 +12,16 @@ from pathlib import Path
 
 from .config import FULL, QUICK, Config
 from .jobs import _child
-from .measure import bench_builds, bench_family, bench_solid, bench_writers, fit_exponent, machine
+from .measure import (
+    bench_builds,
+    bench_family,
+    bench_solid,
+    bench_solid_writers,
+    bench_startup,
+    bench_writers,
+    fit_exponent,
+    machine,
+)
 from .report import goals, table
 
 
@@ -29,8 +38,11 @@ def run_bench(cfg: Config, json_path: Path, workdir: Path | None = None, mode: s
     try:
         rows, raw = bench_builds(cfg, work, say)
         rows += bench_writers(cfg, work, raw, say)
+        rows += bench_startup(cfg, say)
         if cfg.solid:
             rows += bench_solid(cfg, work, say)
+            if cfg.solid_writers:
+                rows += bench_solid_writers(cfg, work, say)
         if cfg.family_cells:
             rows += bench_family(cfg, work, say)
     finally:
@@ -54,7 +66,7 @@ def run_bench(cfg: Config, json_path: Path, workdir: Path | None = None, mode: s
 
 def main(argv: list[str] | None = None) -> int:
     p = argparse.ArgumentParser(prog="python -m meshgen.bench", description="Speed and memory benchmark: ``python -m meshgen.bench [--quick] [--json FILE]``.")
-    p.add_argument("--quick", action="store_true", help="1e5 and 3e5 cells, no 3-D mesh (under a minute)")
+    p.add_argument("--quick", action="store_true", help="1e5 and 3e5 cells, 3-D at 1e7 hexahedra instead of 1e8")
     p.add_argument("--json", type=Path, default=Path("outputs") / "bench.json", help="where to write the table")
     p.add_argument("--repeat", type=int, default=None, help="runs per timing (default 3, quick 2)")
     p.add_argument("--workdir", type=Path, default=None, help="folder for the files written (default: a temporary one)")

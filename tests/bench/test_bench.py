@@ -52,10 +52,17 @@ def test_every_row_is_in_the_table_and_the_json(tiny):
     bench_config._formats()  # registers su2 / polymesh when their modules exist
     assert {n for s, n in names if s == "writers"} == set(FORMATS)
     assert next(r for r in rows if r["section"] == "solid")["cells"] == 1000 * 2
+    assert [r for r in rows if r["name"] == "meshgen build (msh, pictures)"]
+    solid_writers = {r["name"]: r for r in rows if r["section"] == "solid writers"}
+    assert set(solid_writers) == set(FORMATS)
+    assert all(("skipped" in r) == (n in bench_config.NOT_STREAMED) for n, r in solid_writers.items())
+    assert {r["name"] for r in rows if r["section"] == "startup"} == {
+        "python -c 'import numpy'", "meshgen --help", "meshgen --version"}
     family = {n for s, n in names if s == "family"}
     assert family in ({"1 worker", "2 workers"}, {"not available"})
     text = bench.table(on_disk)
     for needle in ["baseline A (gmsh)", "baseline B (numpy raw)", "meshgen build (msh)", "goals:", "3-D", "family",
+                   "writers, 3-D", "start-up", "efficiency",
                    on_disk["machine"]["cpu"], f"gmsh {on_disk['machine']['gmsh']}", *FORMATS]:
         assert needle in text, needle
 
@@ -65,7 +72,9 @@ def test_goals_and_exponent_are_reported(tiny):
     goals = {g["goal"]: g["status"] for g in result["goals"]}
     assert all(s in ("pass", "short", "not measured") for s in goals.values())
     assert any("within 1.2 x baseline A" in g for g in goals)
-    assert any("16 GiB" in g for g in goals)
+    assert any("6 GiB" in g for g in goals)
+    assert any("3-D msh written at" in g for g in goals) and any("3-D cgns written at" in g for g in goals)
+    assert any("pictures of" in g for g in goals) and any("meshgen --help within" in g for g in goals)
     assert any("2 workers" in g for g in goals)
     own = [f for f in FORMATS if f not in bench.GMSH_WRITTEN]
     assert all(any(f"writer {f} " in g for g in goals) for f in own)
