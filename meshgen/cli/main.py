@@ -281,6 +281,9 @@ EXTRA_COMMANDS: list[str] = ["meshgen.cli.study_commands", "meshgen.cli.loop_com
 
 def main(argv: list[str] | None = None) -> int:
     argv = sys.argv[1:] if argv is None else list(argv)
+    if argv == ["--version"]:  # answered before the parser (and the libraries it needs) is built
+        print(f"meshgen {__version__}")
+        return EXIT_OK
     try:
         args = _parser().parse_args(argv)
         if not args.command:

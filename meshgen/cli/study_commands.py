@@ -23,10 +23,6 @@ from pathlib import Path
 
 from ..core.errors import InputError, WriteError
 from ..core.jsontext import dumps
-from ..pipeline.build import output_folder
-from ..study.domain import DEFAULT_TOL, domain_summary
-from ..study.domain_report import domain_table, plot_domain, verdict
-from ..study.runner import RunReport, Study, run_study
 from .args import _case_args
 from .convention import CommaList, show_progress
 
@@ -117,6 +113,8 @@ def add_commands(sub) -> dict:
                     help="decay order q of the fit phi_inf + a H^-q (default: fitted, from 3 variants)")
     sd.add_argument("--key", metavar="COLUMN",
                     help="the column or sweep key that sizes the domain (default: the only one that varies)")
+    from ..study.domain import DEFAULT_TOL
+
     sd.add_argument("--tol", type=float, default=DEFAULT_TOL, metavar="FRACTION",
                     help="accepted relative change against the largest domain (default 0.01, i.e. 1 %%)")
     sd.add_argument("--json", action="store_true", help="print the summary as JSON")
@@ -137,7 +135,10 @@ def _arguments(command: str, args, extra: list[str]) -> list[str]:
     return argv
 
 
-def _run(study: Study, warnings: list[str], args, case_name: str) -> int:
+def _run(study, warnings: list[str], args, case_name: str) -> int:
+    from ..pipeline.build import output_folder
+    from ..study.runner import run_study
+
     for w in warnings:
         print(f"warning: {w}", file=sys.stderr)
     root = output_folder(args.output, f"{case_name}-{study.kind}")
@@ -147,7 +148,7 @@ def _run(study: Study, warnings: list[str], args, case_name: str) -> int:
     return finish_report(report, study.kind, as_json=args.json)
 
 
-def finish_report(report: RunReport, kind: str, as_json: bool = False) -> int:
+def finish_report(report, kind: str, as_json: bool = False) -> int:
     """Print the outcome (stdout; one JSON object with ``as_json``) and any failures
     (stderr); the exit code."""
     if as_json:
@@ -227,6 +228,9 @@ def _plot_problems(plot: str | None) -> list[str]:
 
 
 def cmd_domain(args) -> int:
+    from ..study.domain import domain_summary
+    from ..study.domain_report import domain_table, plot_domain, verdict
+
     problems = _plot_problems(args.plot)
     if not (0 < args.tol < 1):  # also refuses NaN
         problems.append(f"--tol {args.tol}: a fraction above 0 and below 1, e.g. 0.01 for 1 %")

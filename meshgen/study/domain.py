@@ -35,7 +35,6 @@ import numpy as np
 from ..core.errors import InputError
 from .manifest import load_json
 from .results import NAME_COLUMNS, quantity_columns, read_csv_with_lines
-from .sweep import SWEEP_KEYS
 
 SWEEP_MANIFEST = "sweep.json"
 VARIANT_COLUMN = "variant"  # the variant folder names, as sweep.json lists them
@@ -267,6 +266,8 @@ def read_sweep_results(
         )
     if key is not None and key in rows[0] and key not in numeric:
         raise InputError(f"--key {key}: column {key!r} of {path} holds text, not numbers")
+    from .sweep import SWEEP_KEYS  # the case model: loaded when a summary is made, not for --help
+
     in_csv = [c for c in numeric if full_key(c) in SWEEP_KEYS]
     if key is not None:
         col = key if key in numeric else next((c for c in in_csv if full_key(c) == full_key(key)), None)
@@ -308,6 +309,8 @@ def _sweep_results(path: Path, rows: list[dict], lines: list[int], values: dict,
         if x in first:
             problems.append(f"{path} lines {first[x]} and {ln}: the same {chosen} = {x:g}; give each variant once")
         first.setdefault(x, ln)
+    from .sweep import SWEEP_KEYS
+
     quantities = [c for c in quantity_columns(rows) if c not in values and full_key(c) not in SWEEP_KEYS]
     if not quantities:
         problems.append(

@@ -23,11 +23,14 @@ A level below a floor gets a warning naming the level and what to change.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from ..physics.treatment import TREATMENTS
-from ..planning.plan import BL_STATIONS, Plan
+
+if TYPE_CHECKING:  # the command line builds its options from Floors without loading the planner
+    from ..planning.plan import Plan
 
 #: Stations x/L < this are left out of the judged y+ range (singular at the leading edge).
 JUDGED_FROM = 0.1
@@ -58,6 +61,12 @@ def treatment_band(case) -> tuple[float, float]:
     return tuple(float(v) for v in TREATMENTS[case.wall.treatment].band)
 
 
+def _bl_stations():
+    from ..planning.plan import BL_STATIONS
+
+    return BL_STATIONS
+
+
 def max_growth(nodes: np.ndarray) -> float:
     """Largest ratio of neighbouring cells along ``nodes``, taken either way (>= 1)."""
     d = np.diff(nodes)
@@ -83,7 +92,7 @@ def level_figures(plan: Plan, h: float, ratio_to_next: float | None) -> dict:
         "y_plus_judged_range": [float(judged.min()), float(judged.max())],
         "max_growth_wall_normal": max_growth(plan.y),
         "max_growth_streamwise": max_growth(plan.x),
-        "cells_in_delta99": plan.cells_in_delta99(BL_STATIONS),
+        "cells_in_delta99": plan.cells_in_delta99(_bl_stations()),
         "cells_wall_normal": int(plan.y.size - 1),
         "cells_streamwise": int(plan.x.size - 1),
     }

@@ -23,13 +23,16 @@ default), or its largest or mean value over the judged stretch of the plate (x/L
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import numpy as np
 
 from ..core.errors import InputError
 from ..physics.treatment import TREATMENTS
-from ..planning import sizing
-from ..planning.plan import Plan
 from .wall_data import WallData
+
+if TYPE_CHECKING:  # the command line reads OVER and WHERE without loading the planner
+    from ..planning.plan import Plan
 
 #: Where along the plate (x/L) the largest or mean y+ is taken: past the leading edge,
 #: whose singularity the correlations and many solvers share, up to the trailing edge.
@@ -84,6 +87,8 @@ def refit(plan: Plan, wall: WallData, *, where: str = "reference", target: float
     w, f = plan.case.wall, plan.flow
     h_s = plan.first_cell_height if solved_height is None else float(solved_height)
     if target is None:
+        from ..planning import sizing
+
         target = sizing.y_plus_target(w)
     if not (h_s > 0 and target > 0):
         raise InputError("the solved first-cell height and the target y+ must be positive")
