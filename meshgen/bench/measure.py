@@ -128,6 +128,7 @@ def bench_solid(cfg: Config, workdir: Path, say) -> list[dict]:
     cells2, span = cfg.solid
     formats = ["msh", "cgns"]
     say(f"  3-D {cells2 * span:,} hexahedra: build, {' and '.join(formats)}")
+    os.sync()  # start with no dirty pages of earlier runs waiting to be written back
     res = run_child({"kind": "build", "overrides": case_overrides(cells2, span, blocks=3), "formats": formats,
                      "folder": str(workdir / "solid"), "cleanup": True}, workdir)
     if "error" in res:
@@ -150,12 +151,14 @@ def bench_solid_writers(cfg: Config, workdir: Path, say) -> list[dict]:
                          "skipped": NOT_STREAMED[name]})
             continue
         say(f"  3-D {cells2 * span:,} hexahedra: {name}")
+        os.sync()  # the writer and its baseline each start with the page cache written back
         res = run_child({"kind": "write", "overrides": case_overrides(cells2, span, blocks=3), "repeat": 1,
                          "formats": [name], "folder": str(workdir / "solid-writer")}, workdir)
         if "error" in res:
             rows.append({"section": "solid writers", "name": name, "cells": cells2 * span, "error": res["error"]})
             continue
         w = res["writers"][name]
+        os.sync()
         raw = run_child({"kind": "raw_bytes", "bytes": w["bytes"], "folder": str(workdir / "raw-3d")}, workdir)
         t = w["samples"][0]
         rows.append({"section": "solid writers", "name": name, "cells": res["cells"], "seconds": t,
