@@ -37,6 +37,14 @@ ZOOM_HEIGHTS, ZOOM_WIDTH, ZOOM_CELLS = 30.0, 0.04, 6.0
 #: Margin around a panel's window, as a fraction of its size, so edge lines show whole.
 MARGIN = 0.015
 
+#: Titles sit at the top of their axes (a given height spares matplotlib measuring every
+#: tick label to place them).
+TITLE_Y = 1.0
+#: Subplot margins and gaps (fractions of the figure) of a one-axes picture; the mesh and
+#: spacing pictures have their own.
+MARGINS = {"left": 0.07, "right": 0.98, "bottom": 0.07, "top": 0.9}
+MESH_MARGINS = {"left": 0.06, "right": 0.82, "bottom": 0.06, "top": 0.91, "hspace": 0.28}
+SPACING_MARGINS = {"left": 0.07, "right": 0.93, "bottom": 0.07, "top": 0.85, "wspace": 0.38}
 INK = "#2b2f33"
 GRID = "#97a1ab"
 FACE = "#fbfaf7"
@@ -46,14 +54,17 @@ RATIO_COLOUR = "#c2693e"
 BAND_COLOUR = "#cfe3d4"
 
 
-def _figure(ncols: int = 1, nrows: int = 1, **kw):
+def _figure(ncols: int = 1, nrows: int = 1, margins: dict | None = None, **kw):
+    """A figure of FIG_SIZE_PX with fixed margins (fractions of the figure; matplotlib's
+    constrained layout measured every text several times and took half of a picture's
+    time), its axes coloured as the house style."""
     import matplotlib
 
     matplotlib.use("Agg")
     import matplotlib.pyplot as plt
 
     fig, axes = plt.subplots(nrows, ncols, figsize=(FIG_SIZE_PX[0] / DPI, FIG_SIZE_PX[1] / DPI),
-                             dpi=DPI, layout="constrained", **kw)
+                             dpi=DPI, gridspec_kw=margins or MARGINS, **kw)
     for ax in np.atleast_1d(axes).ravel():
         ax.set_facecolor(FACE)
         ax.tick_params(colors=INK, labelsize=11)
@@ -191,7 +202,7 @@ def _wall_nodes(mesh: Mesh, report: dict) -> np.ndarray | None:
 
 def mesh_figure(mesh: Mesh, report: dict, case_name: str):
     """The mesh picture as a matplotlib Figure (structured meshes get the zoom)."""
-    fig, (ax, zx) = _figure(nrows=2, height_ratios=[1.25, 1])
+    fig, (ax, zx) = _figure(nrows=2, margins={**MESH_MARGINS, "height_ratios": [1.25, 1]})
     grid = _layer(mesh)
     lo, hi = bounds(mesh)
     note = ""
@@ -207,7 +218,7 @@ def mesh_figure(mesh: Mesh, report: dict, case_name: str):
     stretch = _frame(ax, lo[0], hi[0], lo[1], hi[1])
     layer = "; first z layer shown" if mesh.dim == 3 else ""
     ax.set_title(f"whole domain: {mesh.n_cells:,} {mesh.cell_type} cells{layer}{note}{stretch}",
-                 color=INK, fontsize=13)
+                 color=INK, fontsize=13, y=TITLE_Y)
     wall_i = _wall_nodes(mesh, report)
     if grid is not None and wall_i is not None:
         length = report.get("boundary_layer", {}).get("plate_length_m") or float(np.ptp(grid[0, wall_i, 0]))
@@ -224,13 +235,14 @@ def mesh_figure(mesh: Mesh, report: dict, case_name: str):
         zx.ticklabel_format(axis="y", style="sci", scilimits=(-2, 3))
         x_le = grid[0, wall_i[0], 0] + 0.0  # + 0.0 turns -0.0 into 0.0
         zx.set_title(f"leading edge (x = {x_le:.3g} m), {_thin_note(ki, kj) or 'every grid line'}: "
-                     f"{window}{stretch}", color=INK, fontsize=13)
+                     f"{window}{stretch}", color=INK, fontsize=13, y=TITLE_Y)
     else:
         zx.set_axis_off()
         zx.text(0.5, 0.5, "no leading-edge zoom: needs a structured mesh with a wall on j = 0",
                 ha="center", va="center", color=INK, fontsize=13, transform=zx.transAxes)
     extra = f"\nnot drawn (spanwise faces): {', '.join(hidden)}" if hidden else ""
-    fig.legend(loc="outside right upper", title="boundary groups" + extra,
+    fig.legend(loc="upper left", bbox_to_anchor=(MESH_MARGINS["right"] + 0.01, MESH_MARGINS["top"]),
+               title="boundary groups" + extra,
                fontsize=11, title_fontsize=11, frameon=False)
     fig.suptitle(f"{case_name}: mesh", color=INK, fontsize=16)
     return fig
@@ -246,7 +258,7 @@ def _spacing_panel(ax, spacing: np.ndarray, title: str, xlabel: str, marks: dict
     ax.semilogy(idx, spacing, color=SIZE_COLOUR, lw=2, label="spacing", **dots)
     ax.set_xlabel(xlabel, color=INK, fontsize=12)
     ax.set_ylabel("node spacing [m]", color=SIZE_COLOUR, fontsize=12)
-    ax.set_title(title, color=INK, fontsize=13, pad=30)
+    ax.set_title(title, color=INK, fontsize=13, pad=30, y=TITLE_Y)
     ax.grid(True, which="major", color="#e3e1db", lw=0.8)
     for label, at in marks.items():  # two or three fixed marks
         ax.axvline(at, color="#7d868f", ls=":", lw=1.5)
@@ -267,7 +279,7 @@ def _spacing_panel(ax, spacing: np.ndarray, title: str, xlabel: str, marks: dict
 
 def spacing_figure(mesh: Mesh, report: dict, case_name: str):
     """Spacing and growth ratio against the index (structured meshes)."""
-    fig, (left, right) = _figure(ncols=2)
+    fig, (left, right) = _figure(ncols=2, margins=SPACING_MARGINS)
     bl = report.get("boundary_layer", {})
     grid = _layer(mesh)
     wall_i = _wall_nodes(mesh, report)
@@ -319,7 +331,7 @@ def y_plus_figure(report: dict, case_name: str):
     ax.legend(loc="upper right", fontsize=11, framealpha=0.95)
     ax.set_title(f"{bl['regime']}, Re_L = {bl['re_l']:.3g}, "
                  f"skin friction {bl['formula']} ({bl['correlation']})",
-                 color=INK, fontsize=13)
+                 color=INK, fontsize=13, y=TITLE_Y)
     fig.suptitle(f"{case_name}: estimated y+ along the plate", color=INK, fontsize=16)
     return fig
 
