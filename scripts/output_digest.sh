@@ -9,8 +9,8 @@ rm -rf "$out"
 mkdir -p "$out"
 cd "$out"
 formats=(--format msh --format msh2 --format vtu --format su2 --format cgns --format plot3d --format polymesh)
-meshgen build -o "$out/default" "${formats[@]}" >/dev/null 2>&1
-meshgen plan > "$out/default.plan.txt"
+meshgen build -o "$out/embedded" "${formats[@]}" >/dev/null 2>&1
+meshgen plan > "$out/embedded.plan.txt"
 for t in $(meshgen init | awk '{print $1}'); do
   meshgen init "$t" -o "$out/$t.toml" >/dev/null
   meshgen build "$out/$t.toml" -o "$out/$t" "${formats[@]}" >/dev/null 2>&1
