@@ -13,6 +13,7 @@ import sys
 from pathlib import Path
 
 from ..core.errors import InputError, WriteError
+from ..core.jsontext import dumps
 from .args import _case_args
 
 EXIT_OK = 0
@@ -117,7 +118,7 @@ def cmd_gci_folder(args) -> int:
     results = study_rows(rows, fs=args.fs, assumed_order=args.assumed_order, formal_order=args.formal_order)
     for w in warnings:
         print(f"warning: {w}", file=sys.stderr)
-    print(json.dumps(to_json(results), indent=2, allow_nan=False) if args.json else gci_table(results))
+    print(dumps(to_json(results)) if args.json else gci_table(results))
     if args.plot:
         print(f"wrote {plot_gci(results, args.plot)}", file=sys.stderr)
     return EXIT_OK
@@ -137,7 +138,7 @@ def _wall(args, root: Path) -> int:
     stem = Path(name).stem
     table = root / f"gci-wall-{stem}.csv"
     picture = Path(args.plot) if args.plot else root / f"gci-wall-{stem}.png"
-    print(json.dumps(to_json(res), indent=2, allow_nan=False) if args.json else wall_table(res))
+    print(dumps(to_json(res)) if args.json else wall_table(res))
     try:
         written = [write_wall_csv(res, table), plot_wall(res, picture)]
     except OSError as exc:

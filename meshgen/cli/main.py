@@ -70,7 +70,8 @@ def _parser() -> argparse.ArgumentParser:
     sn = sub.add_parser("inspect", help="quality report of a mesh file (MSH 4.1/2.2, VTU, SU2, polyMesh folder)")
     sn.add_argument("mesh", help="mesh file, or an OpenFOAM case / polyMesh folder")
     sn.add_argument("--json", action="store_true", help="print the report as JSON")
-    sn.add_argument("--pictures", metavar="DIR", help="write the pictures into DIR")
+    sn.add_argument("--pictures", metavar="DIR",
+                    help="write the pictures into DIR (the printed report links them from the current folder)")
     sn.add_argument("--angle-limit", type=float, default=70.0, metavar="DEG",
                     help="largest acceptable centre-line angle, above 0 and below 90 (default 70, common "
                          "practice for finite-volume solvers)")
@@ -232,19 +233,25 @@ def cmd_inspect(args) -> int:
     from ..reports.quality import quality_report
 
     path = Path(args.mesh)
+    if args.pictures:
+        from ..pipeline.build import output_folder
+
+        output_folder(args.pictures, "", option="--pictures")
     mesh = _read_any(path)
     if not 0 < args.angle_limit < 90:  # also refuses NaN
         raise InputError(f"--angle-limit {args.angle_limit}: an angle in degrees above 0 and below 90")
     report = quality_report(mesh, angle_limit=args.angle_limit)
     pics = []
-    if args.pictures:
+    if args.pictures and report["metrics"]:
         from ..reports.plots import make_pictures
 
         pics = make_pictures(mesh, report, path.stem, Path(args.pictures))
+    elif args.pictures:
+        print(f"no pictures: {report['errors'][0]}", file=sys.stderr)
     if args.json:
         print(dumps(report))
-    else:
-        print(quality_markdown(report, path.stem, [p.name for p in pics]))
+    else:  # printed text: its picture links are relative to the current folder
+        print(quality_markdown(report, path.stem, pics, relative_to=Path.cwd()))
     return EXIT_OK
 
 

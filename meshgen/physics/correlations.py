@@ -38,6 +38,9 @@ class Correlation:
     cf: Callable[[np.ndarray], np.ndarray]
     re_range: tuple[float, float]
     source: str
+    #: Re_x at and below which the formula itself has no value (a negative base or a pole),
+    #: whatever the stated range: stations there are outside the correlation's range.
+    defined_from: float = 0.0
 
 
 def _schlichting(re: np.ndarray) -> np.ndarray:
@@ -56,6 +59,7 @@ CORRELATIONS: dict[str, Correlation] = {
             "schlichting", "turbulent", "Cf = (2 log10 Re_x - 0.65)^-2.3",
             _schlichting, (5.0e5, 1.0e9),
             "Schlichting; White, Viscous Fluid Flow (1974) eq. 6-135a",
+            defined_from=10**0.325,  # 2 log10 Re_x - 0.65 = 0
         ),
         Correlation(
             "prandtl", "turbulent", "Cf = 0.0592 Re_x^-0.2",
@@ -66,6 +70,7 @@ CORRELATIONS: dict[str, Correlation] = {
             "white", "turbulent", "Cf = 0.455 / ln^2(0.06 Re_x)",
             lambda re: 0.455 / np.log(0.06 * re) ** 2, (5.0e5, 1.0e10),
             "White, Viscous Fluid Flow (1974) eq. 6-134",
+            defined_from=1 / 0.06,  # the pole ln(0.06 Re_x) = 0; below it Cf rises with Re_x
         ),
     )
 }
@@ -107,8 +112,16 @@ def delta99(x: np.ndarray | float, re_x: np.ndarray | float, regime: str,
 
 
 def skin_friction(re_x: np.ndarray | float, correlation: str) -> np.ndarray:
-    """Local skin-friction coefficient Cf [-] from the named correlation."""
-    return CORRELATIONS[correlation].cf(np.asarray(re_x, dtype=float))
+    """Local skin-friction coefficient Cf [-] from the named correlation.
+
+    NaN where Re_x is at or below the formula's own end (``Correlation.defined_from``),
+    without a RuntimeWarning: callers report such stations as outside the range.
+    """
+    c = CORRELATIONS[correlation]
+    re = np.asarray(re_x, dtype=float)
+    inside = re > c.defined_from
+    cf = c.cf(np.where(inside, re, 1e6))  # 1e6: inside every law's formula; replaced below
+    return np.where(inside, cf, np.nan)[()]
 
 
 def friction_velocity(velocity: float, cf: np.ndarray | float) -> np.ndarray:

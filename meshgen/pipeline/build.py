@@ -26,21 +26,25 @@ def _quiet(_: str) -> None:
     pass
 
 
-def output_folder(output: str | os.PathLike | None, case_name: str) -> Path:
-    """The output folder, checked: not a file, and creatable or writable."""
+def output_folder(output: str | os.PathLike | None, case_name: str, option: str = "-o") -> Path:
+    """The output folder, checked: not a file, not a dangling link, and creatable or
+    writable (``option`` names the argument in the messages)."""
     out = Path(output) if output else Path("outputs") / case_name
     try:
         if out.exists() and not out.is_dir():
-            raise InputError(f"-o {out}: is a file, not a folder")
+            raise InputError(f"{option} {out}: is a file, not a folder")
         probe = out
         while not probe.exists():
+            if probe.is_symlink():
+                raise InputError(f"{option} {out}: {probe} is a symbolic link to {os.readlink(probe)}, "
+                                 "which does not exist")
             probe = probe.parent
     except PermissionError:
-        raise InputError(f"-o {out}: a folder on the way is not readable or writable") from None
+        raise InputError(f"{option} {out}: a folder on the way is not readable or writable") from None
     if not probe.is_dir():
-        raise InputError(f"-o {out}: {probe} is a file, not a folder")
+        raise InputError(f"{option} {out}: {probe} is a file, not a folder")
     if not os.access(probe, os.W_OK | os.X_OK):
-        raise InputError(f"-o {out}: folder {probe} is not writable")
+        raise InputError(f"{option} {out}: folder {probe} is not writable")
     return out
 
 
@@ -172,7 +176,7 @@ def _after_build_hooks(plan: Plan, mesh, out: Path, pictures: bool, progress: Pr
         pics = make_pictures(mesh, report, plan.case.name, out)
         pics += write_resolution_picture(plan, plan.case.name, out)
     written.append(write_text(out / "quality.json", dumps(report, what=str(out / "quality.json")) + "\n"))
-    written.append(write_text(out / "report.md", quality_markdown(report, plan.case.name, pics)))
+    written.append(write_text(out / "report.md", quality_markdown(report, plan.case.name, pics, relative_to=out)))
     return written + pics
 
 

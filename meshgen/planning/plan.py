@@ -81,7 +81,12 @@ class Plan(PlanDisplay):
         _, yp = self.y_plus_along_plate()
         # a wall-modelled LES sizes its first cell on delta, not on a y+ band
         treatment = self.resolution is None or KINDS[self.resolution.kind].first_y_plus is not None
-        return (self.setup_warnings + resolution_warnings(self.y, self.delta99_end)
+        out = self.outside_correlation()
+        outside = () if out is None else (
+            (f"{out['stations']} plate nodes up to x/L = {out['x_over_l_up_to']:.3g} are outside the range of "
+             f"the {out['correlation']} correlation (it has no value at Re_x <= {out['re_x_below']:.3g}): no "
+             "y+ estimate there; the y+ figures cover the rest of the plate"),)
+        return (self.setup_warnings + resolution_warnings(self.y, self.delta99_end) + outside
                 + tuple(sizing.physics_warnings(self.case, self.flow, float(yp.min()), float(yp.max()), treatment)))
 
     @property
@@ -148,9 +153,22 @@ class Plan(PlanDisplay):
 
     def y_plus_along_plate(self) -> tuple[np.ndarray, np.ndarray]:
         """x [m] (x > 0) and the estimated first-cell y+ there (at the node or the cell
-        centre, as wall.y_plus_at says)."""
+        centre, as wall.y_plus_at says). Plate nodes where the correlation has no value
+        are left out (``outside_correlation``)."""
         xs = self.plate_nodes()[1:]
-        return xs, y_plus(self.first_cell_height, self.flow.wall(xs), self.case.wall.y_plus_at == "centre")
+        yp = y_plus(self.first_cell_height, self.flow.wall(xs), self.case.wall.y_plus_at == "centre")
+        ok = np.isfinite(yp)
+        return xs[ok], yp[ok]
+
+    def outside_correlation(self) -> dict | None:
+        """The plate nodes (x > 0) where the skin-friction law has no value, or None."""
+        xs = self.plate_nodes()[1:]
+        bad = ~np.isfinite(self.flow.wall(xs).cf)
+        if not bad.any():
+            return None
+        corr = bl.CORRELATIONS[self.flow.correlation]
+        return {"stations": int(bad.sum()), "x_over_l_up_to": float(xs[bad].max() / self.flow.length),
+                "correlation": corr.name, "re_x_below": corr.defined_from}
 
     def cells_in_delta99(self, stations: tuple[float, ...] = BL_STATIONS) -> dict[str, int]:
         """Wall-normal cells wholly inside delta99 at the plate node nearest each x/L (as the report)."""
@@ -207,6 +225,7 @@ class Plan(PlanDisplay):
             "cells_per_block": self.block_cells(),
             "cells_in_delta99": self.cells_in_delta99(),
             "y_plus_range": [float(yp.min()), float(yp.max())],
+            "y_plus_outside_correlation": self.outside_correlation(),
             "y_plus_range_stations": [float(xs[np.argmin(yp)] / f.length), float(xs[np.argmax(yp)] / f.length)],
             "max_edge_ratio": self.max_edge_ratio(),
             "streamwise_first_spacing": float(self.plate_nodes()[1] - self.plate_nodes()[0]),
@@ -285,10 +304,16 @@ def resolve_flow(case: Case) -> tuple[FlowState, list[str]]:
 def wall_normal_nodes(case: Case, flow: FlowState, height: float, delta_end: float) -> np.ndarray:
     """Nodes from the wall to H: two of (first spacing, ratio, count) fix the third."""
     w = case.wall
+    wq = flow.wall(np.array([w.reference_station * flow.length]))
+    if not np.isfinite(wq.cf[0]):
+        raise CaseError(
+            f"wall.reference_station = {w.reference_station!r}: Re_x = {wq.re_x[0]:.3g} there is outside the "
+            f"range of the {flow.correlation} correlation (it has no value at Re_x <= "
+            f"{bl.CORRELATIONS[flow.correlation].defined_from:.3g}); move the station downstream"
+        )
     if w.first_cell_height is not None:
         first = w.first_cell_height
     else:
-        wq = flow.wall(np.array([w.reference_station * flow.length]))
         first = float(first_cell_height(sizing.y_plus_target(w), wq, w.y_plus_at == "centre")[0])
     if first >= height:
         raise CaseError(

@@ -7,6 +7,8 @@ through ``boundary_layer_flow`` and ``meshgen.physics.wall.wall_quantities``.
 
 from __future__ import annotations
 
+from functools import partial
+
 from ..physics import correlations as bl
 from ..physics import transition as tr
 from ..physics.treatment import TREATMENTS, treatment_warnings
@@ -23,7 +25,7 @@ def boundary_layer_flow(flow) -> BoundaryLayerFlow:
     turbulent_law = flow.regime in ("turbulent", "transitional")
     return BoundaryLayerFlow(
         velocity=flow.velocity, nu=flow.nu, density=flow.density, regime=flow.regime,
-        cf_inc=corr.cf, theta_inc=tr.turbulent_re_theta(corr.cf) if turbulent_law else None,
+        cf_inc=partial(bl.skin_friction, correlation=corr.name), theta_inc=tr.turbulent_re_theta(corr.cf) if turbulent_law else None,
         transition_re=flow.transition_re, mach=flow.mach or 0.0, temperature=flow.temperature,
         wall_temperature=flow.wall_temperature, gamma=flow.gamma, prandtl=flow.prandtl,
     )

@@ -115,6 +115,7 @@ def boundary_layer_report(mesh: Mesh, wall_group: str, velocity: float, nu: floa
         col = int(np.argmin(np.abs(x - xs)))
         re = float(reynolds_x(x[col], velocity, nu))
         d99, yp = (float(v[0]) for v in _estimate(x[col : col + 1], h1[col : col + 1])) if re > 0 else (0.0, None)
+        yp = yp if yp is not None and np.isfinite(yp) else None  # None: outside the correlation's range
         return {"x_m": float(x[col]), "re_x": re, "delta99_m": d99, "first_cell_height_m": float(h1[col]),
                 "y_plus": yp, "cells_in_delta99": int(np.count_nonzero(height[1:, col] <= d99)), "_col": col}
 
@@ -131,12 +132,19 @@ def boundary_layer_report(mesh: Mesh, wall_group: str, velocity: float, nu: floa
                if dy.size > 1 else None)
 
     on = (x > 0) & (x <= length * (1 + 1e-12))
+    yp_all = _estimate(x[on], h1[on])[1]
+    defined = np.isfinite(yp_all)  # no value where the correlation's formula ends
+    c = CORRELATIONS[correlation]
+    if not defined.all():
+        notes.append(f"{int((~defined).sum())} wall nodes up to x = {float(x[on][~defined].max()):.3g} m are outside "
+                     f"the range of the {c.name} correlation (it has no value at Re_x <= {c.defined_from:.3g}): "
+                     "left out of the y+ figures")
+    on[on] = defined
+    yp = yp_all[defined]
     re = reynolds_x(x[on], velocity, nu)
-    yp = _estimate(x[on], h1[on])[1]
     edges = np.concatenate([[x[0]], 0.5 * (x[1:] + x[:-1]), [x[-1]]])
     weight = np.diff(edges)[on]
     total = float(weight.sum())
-    c = CORRELATIONS[correlation]
     outside = int(np.count_nonzero((re < c.re_range[0]) | (re > c.re_range[1])))
     if outside:
         notes.append(f"{outside} wall nodes have Re_x outside the {c.name} correlation's range "

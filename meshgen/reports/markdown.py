@@ -46,12 +46,15 @@ def _bl_markdown(bl: dict) -> list[str]:
     return out
 
 
-def quality_markdown(report: dict, case_name: str, pictures=()) -> str:
+def quality_markdown(report: dict, case_name: str, pictures=(), relative_to=None) -> str:
     """report.md text: tables of ``report`` and the pictures as relative links.
 
-    ``pictures`` are paths; an absolute path is linked by its file name (report.md is
-    written beside the pictures), a relative one as given.
+    ``pictures`` are paths. With ``relative_to`` (the folder the text is written to, or
+    the current folder for printed text) each is linked relative to it, so the links
+    work wherever that folder is; without, an absolute path is linked by its file name
+    and a relative one as given.
     """
+    import os
     from pathlib import Path
 
     m = report["mesh"]
@@ -77,6 +80,9 @@ def quality_markdown(report: dict, case_name: str, pictures=()) -> str:
         out += ["## Pictures", ""]
         for p in pictures:
             p = Path(p)
-            link = p.name if p.is_absolute() else p.as_posix()
+            if relative_to is not None:
+                link = Path(os.path.relpath(p.absolute(), Path(relative_to).absolute())).as_posix()
+            else:
+                link = p.name if p.is_absolute() else p.as_posix()
             out += [f"![{p.stem.replace('_', ' ')}]({link})", ""]
     return "\n".join(out)

@@ -285,6 +285,9 @@ def quality_report(mesh: Mesh, boundary_layer: dict | None = None, angle_limit: 
     """The whole quality summary as plain JSON-ready data (``boundary_layer``, the result
     of ``boundary_layer_report``, is embedded when given; ``angle_limit`` [deg] is the
     largest acceptable centre-line angle)."""
+    finite = np.isfinite(mesh.points).all(axis=1)
+    if not finite.all():
+        return _non_finite_report(mesh, finite, boundary_layer, angle_limit)
     notes: list[str] = []
     errors: list[str] = []
     structured = recover_structure(mesh)
@@ -323,10 +326,7 @@ def quality_report(mesh: Mesh, boundary_layer: dict | None = None, angle_limit: 
                  "structure": "given" if mesh.shape is not None else
                               ("recovered" if structured.shape is not None else "none"),
                  "bounds_m": [[float(a), float(b)] for a, b in zip(lo, hi)]},
-        "sources": {"metrics": VERDICT, "centre_line_angle": "angle between an interior face's normal "
-                    "and the line joining the centres of the two cells it separates (0 on a rectangular "
-                    f"grid); limit {angle_limit:g} deg, a setting (default {ANGLE_LIMIT:g}, common practice "
-                    "for finite-volume solvers)"},
+        "sources": _sources(angle_limit),
         "metrics": metrics,
         "inverted_cells": inverted,
         "errors": errors,
@@ -334,6 +334,37 @@ def quality_report(mesh: Mesh, boundary_layer: dict | None = None, angle_limit: 
     }
     if structured.shape is not None:
         report["streamwise_spacing"] = _streamwise_spacing(structured)
+    if boundary_layer is not None:
+        report["boundary_layer"] = boundary_layer
+    return report
+
+
+def _sources(angle_limit: float) -> dict:
+    return {"metrics": VERDICT, "centre_line_angle": "angle between an interior face's normal "
+            "and the line joining the centres of the two cells it separates (0 on a rectangular "
+            f"grid); limit {angle_limit:g} deg, a setting (default {ANGLE_LIMIT:g}, common practice "
+            "for finite-volume solvers)"}
+
+
+def _non_finite_report(mesh: Mesh, finite: np.ndarray, boundary_layer: dict | None, angle_limit: float) -> dict:
+    """The report of a mesh with NaN or infinite coordinates: that is its error, and no
+    metric of it means anything (one bad node spoils its cells and the structure)."""
+    n = int((~finite).sum())
+    cells = int(np.any(~finite[mesh.cells], axis=1).sum())
+    good = mesh.points[finite]
+    lo, hi = (good.min(axis=0), good.max(axis=0)) if good.size else (np.zeros(3), np.zeros(3))
+    report = {
+        "mesh": {"dim": mesh.dim, "cell_type": mesh.cell_type, "n_points": mesh.n_points,
+                 "n_cells": mesh.n_cells, "groups": mesh.group_sizes(),
+                 "roles": {g.name: g.role for g in mesh.groups}, "shape": None, "structure": "none",
+                 "bounds_m": [[float(a), float(b)] for a, b in zip(lo, hi)]},
+        "sources": _sources(angle_limit),
+        "metrics": {},
+        "inverted_cells": None,
+        "errors": [(f"{n} node{' has' if n == 1 else 's have'} a non-finite coordinate (NaN or infinity), "
+                    f"used by {cells} cell{'' if cells == 1 else 's'}: no metric is computed")],
+        "notes": ["bounds are those of the finite nodes"],
+    }
     if boundary_layer is not None:
         report["boundary_layer"] = boundary_layer
     return report

@@ -6,13 +6,13 @@ runs the grid-convergence procedure of Celik et al. (2008) and returns a display
 
 from __future__ import annotations
 
-import json
 import os
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from pathlib import Path
 
 from ..core.errors import MeshError
+from ..core.jsontext import dumps
 from .runner import RunReport
 
 PathLike = str | os.PathLike
@@ -72,7 +72,7 @@ class GciResult:
     def to_json(self) -> str:
         from .gci import to_json
 
-        return json.dumps(to_json(self.data), indent=2, allow_nan=False)
+        return dumps(to_json(self.data))
 
     def plot(self, path: PathLike) -> Path:
         """Write a PNG of each quantity against h with the extrapolated value and its band."""

@@ -84,3 +84,26 @@ def test_untagged_mesh_is_exit_2(tmp_path, capsys):
         g.write(str(p))
     assert main(["inspect", str(p)]) == 2
     assert "Traceback" not in capsys.readouterr().err
+
+
+@pytest.mark.filterwarnings("error::RuntimeWarning")
+@pytest.mark.parametrize("name", ["fairing-strip.su2", "fairing-strip.v2.msh"])
+def test_a_non_finite_coordinate_is_an_error_not_a_clean_report(written, name, tmp_path, capsys):
+    """Before: a NaN coordinate gave "Errors: None" (issue 11, item 7), and --json wrote NaN."""
+    out, _ = written
+    text = (out / name).read_text()
+    marker = "NPOIN=" if name.endswith(".su2") else "$Nodes"
+    head, _, rest = text.partition(marker)
+    lines = rest.split("\n")
+    row = 5 if name.endswith(".su2") else 4  # a node row in either file
+    lines[row] = " ".join(["nan" if k == 1 else v for k, v in enumerate(lines[row].split())])
+    bad = tmp_path / name
+    bad.write_text(head + marker + "\n".join(lines))
+    assert main(["inspect", str(bad), "--json"]) == 0
+    def refuse(c):
+        raise ValueError(c)
+    report = json.loads(capsys.readouterr().out, parse_constant=refuse)
+    assert report["errors"] and "1 node has a non-finite coordinate" in report["errors"][0], report["errors"]
+    assert main(["inspect", str(bad)]) == 0
+    text = capsys.readouterr().out
+    assert "non-finite coordinate" in text and "None." not in text.split("## Errors")[1].split("##")[0]
