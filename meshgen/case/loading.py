@@ -140,9 +140,29 @@ def _format_errors(exc: ValidationError, data: dict[str, Any]) -> list[str]:
             lines.extend(str(err["ctx"]["error"]).splitlines())
             continue
         given = err.get("input")
-        shown = "" if isinstance(given, dict) else f" = {given!r}"
-        lines.append(f"{where}{shown}: {err['msg']}")
+        shown = "" if isinstance(given, dict) else f" = {_shown(given)}"
+        lines.append(f"{where}{shown}: {_message(err)}")
     return lines
+
+
+def _shown(value: Any) -> str:
+    """A value as the case file spells it (``true``, not ``True``)."""
+    return ("true" if value else "false") if isinstance(value, bool) else repr(value)
+
+
+def _message(err: dict) -> str:
+    """pydantic's message, or a plainer one for a wrong type of number (model.Real, Count)."""
+    if err["type"] not in ("float_type", "int_type"):
+        return err["msg"]
+    needed = "a number" if err["type"] == "float_type" else "a whole number"
+    given = err.get("input")
+    if isinstance(given, bool):
+        return f"{needed} is needed; true and false are not numbers"
+    if isinstance(given, str):
+        return f"{needed} is needed, not a string (write it without quotes)"
+    if isinstance(given, float):
+        return f"{needed} is needed, e.g. {int(given)}" if given.is_integer() else f"{needed} is needed"
+    return f"{needed} is needed, not a {type(given).__name__}"
 
 
 def parse_case(data: dict[str, Any]) -> Case:

@@ -14,7 +14,7 @@ from pathlib import Path
 
 from ..core.errors import InputError, WriteError
 from ..core.jsontext import dumps
-from .args import _case_args
+from .args import _case_args, plot_problems
 
 EXIT_OK = 0
 
@@ -72,8 +72,7 @@ def cmd_refit(args) -> int:
     if args.target is not None and not args.target > 0:
         problems.append(f"--target {args.target}: a positive y+")
     picture = Path(args.plot) if args.plot else out.with_name(f"{out.stem}-y_plus.png")
-    if picture.suffix.lower() != ".png":
-        problems.append(f"--plot {picture}: the picture is a PNG; give a name ending in .png")
+    problems += plot_problems(str(picture))
     if problems:
         raise InputError(problems)
     case = load_case(args.case, args.overrides)

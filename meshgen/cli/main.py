@@ -16,7 +16,7 @@ from .. import __version__
 from ..core.errors import InputError, MeshgenError
 from ..core.jsontext import dumps
 from . import convention
-from .args import _case_args, _Parser
+from .args import _case_args, _Parser, plot_problems
 
 EXIT_OK, EXIT_FAIL, EXIT_INPUT, EXIT_INTERRUPT = 0, 1, 2, 130
 
@@ -132,6 +132,9 @@ def cmd_init(args) -> int:
         raise InputError(f"-o {target}: is a folder; give a file name")
     if target.exists() and not args.force:
         raise InputError(f"-o {target}: exists; use --force to overwrite")
+    from ..pipeline.build import output_folder
+
+    output_folder(target.parent, "", option=f"-o {target}: folder")  # a file, a dangling link, read-only
     from ..io.atomic import write_text
 
     write_text(target, _template_text(args.template))
@@ -179,6 +182,9 @@ def cmd_gci(args) -> int:
     from ..study.gci_report import gci_table, plot_gci
     from ..study.results import read_results_csv, study_rows
 
+    problems = plot_problems(args.plot)
+    if problems:
+        raise InputError(problems)
     if Path(args.results).is_dir():
         from .loop_commands import cmd_gci_folder
 
@@ -306,6 +312,10 @@ def main(argv: list[str] | None = None) -> int:
         return EXIT_INTERRUPT
     except MeshgenError as exc:
         print(f"error: {exc}", file=sys.stderr)
+        return EXIT_FAIL
+    except MemoryError:
+        print("error: out of memory; reduce the cell count (output.max_cells caps a plan) or free memory",
+              file=sys.stderr)
         return EXIT_FAIL
     except SystemExit as exc:  # --help and --version
         return int(exc.code or 0)

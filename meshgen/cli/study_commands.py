@@ -19,11 +19,10 @@ from __future__ import annotations
 import argparse
 import os
 import sys
-from pathlib import Path
 
 from ..core.errors import InputError, WriteError
 from ..core.jsontext import dumps
-from .args import _case_args
+from .args import _case_args, plot_problems
 from .convention import CommaList, show_progress
 
 EXIT_OK, EXIT_FAIL = 0, 1
@@ -139,12 +138,13 @@ def _run(study, warnings: list[str], args, case_name: str) -> int:
     from ..pipeline.build import output_folder
     from ..study.runner import run_study
 
-    for w in warnings:
-        print(f"warning: {w}", file=sys.stderr)
     root = output_folder(args.output, f"{case_name}-{study.kind}")
     workers = default_workers() if args.workers is None else args.workers
+    # the warnings are printed once the run has passed its checks (whatever the progress
+    # setting): an exit 2 prints its errors only
     report = run_study(study, root, workers=workers, force=args.force, scheduler=args.scheduler,
-                       stream=sys.stderr if show_progress(args) else None)
+                       stream=sys.stderr if show_progress(args) else None,
+                       on_start=lambda: [print(f"warning: {w}", file=sys.stderr) for w in warnings])
     return finish_report(report, study.kind, as_json=args.json)
 
 
@@ -212,26 +212,11 @@ def cmd_sweep(args) -> int:
     return _run(study, warnings, args, study.members[0].plan.case.name)
 
 
-def _plot_problems(plot: str | None) -> list[str]:
-    """Why --plot FILE cannot be written, checked before anything is read or written."""
-    if plot is None:
-        return []
-    path = Path(plot)
-    if path.suffix.lower() != ".png":
-        return [f"--plot {plot}: the picture is a PNG; give a file name ending in .png"]
-    if path.is_dir():
-        return [f"--plot {plot}: is a folder; give a file name ending in .png"]
-    parent = next((p for p in path.parents if p.exists()), None)
-    if parent is not None and not parent.is_dir():
-        return [f"--plot {plot}: {parent} is a file, not a folder"]
-    return []
-
-
 def cmd_domain(args) -> int:
     from ..study.domain import domain_summary
     from ..study.domain_report import domain_table, plot_domain, verdict
 
-    problems = _plot_problems(args.plot)
+    problems = plot_problems(args.plot)
     if not (0 < args.tol < 1):  # also refuses NaN
         problems.append(f"--tol {args.tol}: a fraction above 0 and below 1, e.g. 0.01 for 1 %")
     if problems:

@@ -33,10 +33,19 @@ NODE_RTOL = 1e-6
 
 def build_mesh(plan: Plan, verbose: bool = False) -> Mesh:
     """Mesh the Plan with gmsh and return the verified Mesh (extruded when 3-D)."""
-    with gmsh_session(verbose=verbose, name=plan.case.name) as gmsh:
-        tags = _make_blocks(gmsh, plan)
-        gmsh.model.mesh.generate(2)
-        points, groups_nodes, quads = _extract(gmsh, plan, tags)
+    try:
+        with gmsh_session(verbose=verbose, name=plan.case.name) as gmsh:
+            tags = _make_blocks(gmsh, plan)
+            gmsh.model.mesh.generate(2)
+            points, groups_nodes, quads = _extract(gmsh, plan, tags)
+    except MemoryError:
+        raise MeshError(_failed(plan, "out of memory")) from None
+    except Exception as exc:
+        if type(exc) is not Exception:  # gmsh's own errors are plain Exceptions; ours are not
+            raise
+        # gmsh raises an empty Exception when an allocation fails (measured under ulimit -v)
+        raise MeshError(_failed(plan, str(exc).strip() or "gmsh stopped without a message, as it does when "
+                                "it runs out of memory")) from None
     mesh = structured_mesh(plan.x, plan.y, plan.blocks, plan.group_layout(), points=points)
     _check_against_gmsh(mesh, plan, groups_nodes, quads)
     verify_mesh(mesh, plan.x.size * plan.y.size, (plan.x.size - 1) * (plan.y.size - 1))
@@ -51,6 +60,13 @@ def build_mesh(plan: Plan, verbose: bool = False) -> Mesh:
         if plan.span_boundary == "periodic":
             mesh = periodic_span(mesh, n.back, n.front)
     return mesh
+
+
+def _failed(plan: Plan, why: str) -> str:
+    nx, ny = plan.x.size - 1, plan.y.size - 1
+    return (f"meshing {nx * ny:,} cells ({nx} x {ny}) failed: {why}; reduce the cell count (larger "
+            "streamwise.max_spacing, wall.max_spacing or growth ratios; output.max_cells caps a plan) "
+            "or free memory")
 
 
 def _make_blocks(gmsh, plan: Plan) -> dict:

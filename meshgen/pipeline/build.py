@@ -91,18 +91,19 @@ def verified_mesh(plan: Plan, verbose: bool = False):
 
 
 def build_plan(plan: Plan, out: Path, fmts, force: bool = False, pictures: bool = True,
-               verbose: bool = False, progress: Progress = _quiet) -> list[Path]:
+               verbose: bool = False, progress: Progress = _quiet, warnings=()) -> list[Path]:
     """Build and write one plan into ``out``; return the files written.
 
     The folder is locked for the whole build (io/lock.py): a second build into it stops
-    with an InputError naming the process that holds it.
+    with an InputError naming the process that holds it. ``warnings`` go to ``progress``
+    once the checks have passed, so a refused build shows its errors alone.
     """
     with folder_lock(out):
-        return _build_locked(plan, out, fmts, force, pictures, verbose, progress)
+        return _build_locked(plan, out, fmts, force, pictures, verbose, progress, warnings)
 
 
 def _build_locked(plan: Plan, out: Path, fmts, force: bool, pictures: bool, verbose: bool,
-                  progress: Progress) -> list[Path]:
+                  progress: Progress, warnings) -> list[Path]:
 
     stem = plan.case.name
     targets = planned_outputs(out, stem, fmts)
@@ -115,6 +116,8 @@ def _build_locked(plan: Plan, out: Path, fmts, force: bool, pictures: bool, verb
     unwritable = _unwritable(targets)
     if unwritable:
         raise InputError(unwritable)
+    for w in warnings:
+        progress(f"warning: {w}")
     clean_stale(out)
     progress(f"building {plan.cell_count:,} cells ({plan.case.name}, level {plan.level})")
     mesh = verified_mesh(plan, verbose)
@@ -136,6 +139,7 @@ def quality_for_plan(plan: Plan, mesh) -> dict:
     """The quality report of a built mesh, with the boundary-layer section from its plan."""
     from ..physics.treatment import TREATMENTS
     from ..physics.wall import y_plus
+    from ..planning.sizing import sized_by_y_plus
     from ..reports.boundary_layer import boundary_layer_report
     from ..reports.quality import quality_report
 
@@ -151,6 +155,8 @@ def quality_for_plan(plan: Plan, mesh) -> dict:
                                 target, plate_length=f.length, x_ref=x_ref, wall=f.wall, at_centre=centre,
                                 band=t.band, band_rule=t.description)
     blr["regime"] = f.regime
+    if not sized_by_y_plus(w):  # the height was given or solved from a count: no target was set
+        blr["y_plus_target"] = None
     blr["assumptions"] = plan.to_dict()["assumptions"]
     return quality_report(mesh, blr, angle_limit=plan.case.output.centre_line_angle_limit)
 
@@ -189,6 +195,5 @@ def build_case(case_path=None, overrides=None, output=None, formats=None, force=
     plan = make_plan(case)
     fmts = resolve_formats(formats, case.output.formats)
     out = output_folder(output, case.name)
-    for w in plan.warnings:
-        progress(f"warning: {w}")
-    return build_plan(plan, out, fmts, force=force, pictures=pictures, verbose=verbose, progress=progress)
+    return build_plan(plan, out, fmts, force=force, pictures=pictures, verbose=verbose, progress=progress,
+                      warnings=plan.warnings)

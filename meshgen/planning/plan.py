@@ -14,6 +14,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ..case import Case
+from ..case.model import MIN_SPACING
 from ..core.errors import CaseError
 from ..physics import compressible as comp
 from ..physics import correlations as bl
@@ -23,6 +24,7 @@ from ..physics.resolution import KINDS
 from ..physics.treatment import TREATMENTS
 from ..physics.wall import WallQuantities, first_cell_height, wall_quantities, y_plus
 from . import resolved, sizing
+from .flow_ranges import check_resolved_flow
 from .layout import Block, Patch
 from .spacing import capped_geometric, geometric_nodes, solve_geometric
 from .streamwise import streamwise_nodes
@@ -175,7 +177,9 @@ class Plan(PlanDisplay):
         f = self.flow
         plate = self.plate_nodes()
         nearest = plate[np.argmin(np.abs(plate[None, :] - np.asarray(stations)[:, None] * f.length), axis=1)]
-        d = f.wall(nearest).delta99
+        d = np.zeros_like(nearest)  # no layer at the leading edge (a coarse plate's nearest node)
+        ahead = nearest > 0
+        d[ahead] = f.wall(nearest[ahead]).delta99
         counts = np.searchsorted(self.y, d, side="right") - 1
         return {f"{s:g}": int(c) for s, c in zip(stations, counts)}
 
@@ -206,7 +210,8 @@ class Plan(PlanDisplay):
             "domain_height": self.domain_height,
             "first_cell_height": self.first_cell_height,
             "growth_ratio": self.growth_ratio,
-            "y_plus_target": sizing.y_plus_target(w) if w.first_cell_height is None else None,
+            "y_plus_target": sizing.y_plus_target(w) if sizing.sized_by_y_plus(w) else None,
+            "y_plus_at_reference": float(y_plus(self.first_cell_height, ref, w.y_plus_at == "centre")[0]),
             "reference_station": w.reference_station,
             "wall_treatment": w.treatment,
             "y_plus_at": w.y_plus_at,
@@ -242,7 +247,7 @@ def resolve_flow(case: Case) -> tuple[FlowState, list[str]]:
     f = case.flow
     density, density_given = f.density, f.density is not None
     nu = f.nu
-    sound = None
+    sound = state = None
     if f.fluid is not None:
         state = fluid_state(f.fluid, f.temperature, f.pressure)
         nu = state.nu
@@ -268,6 +273,7 @@ def resolve_flow(case: Case) -> tuple[FlowState, list[str]]:
     else:
         velocity = f.velocity
         re = velocity * f.length / nu
+    check_resolved_flow(case, velocity, nu, re, state)
     regime, warnings = (f.regime, []) if f.regime == "transitional" else bl.regime_for(re, f.regime)
     if regime != "laminar" and re < bl.TURBULENT_MIN_RE:
         raise CaseError(
@@ -315,6 +321,15 @@ def wall_normal_nodes(case: Case, flow: FlowState, height: float, delta_end: flo
         first = w.first_cell_height
     else:
         first = float(first_cell_height(sizing.y_plus_target(w), wq, w.y_plus_at == "centre")[0])
+    floor = MIN_SPACING * flow.length
+    if not np.isfinite(first):
+        raise CaseError(f"wall: no first-cell height can be sized at wall.reference_station = "
+                        f"{w.reference_station!r}: the wall quantities there are not finite numbers")
+    if first < floor:
+        given = (f"wall.first_cell_height = {first!r} m" if w.first_cell_height is not None else
+                 f"wall.reference_station = {w.reference_station!r}: the first-cell height {first:.3g} m there")
+        raise CaseError(f"{given} is below {MIN_SPACING:g} of the plate length ({floor:.3g} m), meshgen's "
+                        "limit: past it double-precision coordinates keep too few digits across the cell")
     if first >= height:
         raise CaseError(
             f"wall: first-cell height {first:.4g} m is not smaller than the domain height "

@@ -31,6 +31,15 @@ def boundary_layer_flow(flow) -> BoundaryLayerFlow:
     )
 
 
+def sized_by_y_plus(wall) -> bool:
+    """Whether the first-cell height comes from a y+ target: not given as a height, nor
+    solved from wall.cells with wall.growth_ratio (plan.wall_normal_nodes)."""
+    if wall.first_cell_height is not None:
+        return False
+    given = wall.model_fields_set
+    return not (wall.cells is not None and "growth_ratio" in given and "y_plus" not in given)
+
+
 def y_plus_target(wall) -> float:
     """wall.y_plus, or the treatment's default target."""
     return wall.y_plus if wall.y_plus is not None else TREATMENTS[wall.treatment].default_y_plus
@@ -77,7 +86,7 @@ def physics_warnings(case, flow, y_plus_min: float, y_plus_max: float, treatment
     if not flow.mach and case.wall.temperature is not None:
         out.append("wall.temperature is used only by a compressible sizing (flow.mach > 0); ignored")
     w = case.wall
-    target = y_plus_target(w) if w.first_cell_height is None else None
+    target = y_plus_target(w) if sized_by_y_plus(w) else None
     if treatment:
         out += treatment_warnings(w.treatment, y_plus_min, y_plus_max, target)
     return out

@@ -8,6 +8,8 @@ plate's edge spacing up to ``streamwise.far_spacing``, or take ``streamwise.upst
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 
 from ..case import Case
@@ -15,13 +17,32 @@ from ..core.errors import CaseError
 from .layout import Block
 from .spacing import capped_geometric, geometric_nodes, solve_geometric, two_sided
 
+#: Largest solved growth ratio: the case model's limit on every growth ratio (wall.growth_ratio,
+#: streamwise.growth_ratio), so a solved ratio is held to what a given one may be.
+MAX_RATIO = 2.0
+
+
+def _fewest(half: float, first: float) -> int:
+    """Fewest geometric cells from ``first`` that fill ``half`` at a ratio of at most
+    MAX_RATIO: first (R^n - 1) / (R - 1) >= half."""
+    return max(1, math.ceil(math.log(half / first * (MAX_RATIO - 1) + 1) / math.log(MAX_RATIO) - 1e-9))
+
 
 def plate_with_count(length: float, dx_le: float, dx_te: float, cells: int) -> np.ndarray:
     """``cells`` plate cells: two geometric layers from the edges meeting at mid-plate,
-    each with its ratio solved from its first spacing and its half of the count."""
+    each with its ratio solved from its first spacing and its half of the count (at most
+    MAX_RATIO: a count too small for the edge spacings is refused with the one that fits)."""
     left_n = cells // 2
     right_n = cells - left_n
     half = 0.5 * length
+    need_l, need_r = _fewest(half, dx_le), _fewest(half, dx_te)
+    if left_n < need_l or right_n < need_r:
+        fits = max(2 * need_l, 2 * need_r - 1)
+        raise CaseError(
+            f"streamwise.cells = {cells}: from the edge spacings {dx_le:.4g} m and {dx_te:.4g} m the plate "
+            f"would grow by a ratio above {MAX_RATIO:g} (valid up to 2, as for wall.growth_ratio); give "
+            f"{fits} or more, or raise streamwise.leading_edge_spacing and trailing_edge_spacing"
+        )
     parts = []
     for first, n in ((dx_le, left_n), (dx_te, right_n)):
         if first * n > half * (1 + 1e-12):
@@ -47,7 +68,7 @@ def block_with_count(length: float, first: float, cells: int, key: str) -> np.nd
             f"plate edge) do not fit the block's {length:.4g} m; lower {key}"
         )
     first, ratio, _ = solve_geometric(length, first=first, count=cells)
-    if ratio > 2.0:
+    if ratio > MAX_RATIO:
         raise CaseError(
             f"{key} = {cells}: from {first:.4g} m at the plate edge this needs a growth ratio of "
             f"{ratio:.3g} (valid up to 2); raise {key}"

@@ -74,6 +74,9 @@ def plan_rows(d: dict) -> list[tuple[str, str]]:
     ]
     if d.get("y_plus_target") is not None:
         rows.append(("target y+ at x/L", f"{_fmt(d['y_plus_target'])} at {_fmt(d['reference_station'])}"))
+    elif d.get("y_plus_at_reference") is not None:  # the spacing was given or solved: no target was set
+        rows.append((f"y+ at x/L = {_fmt(d['reference_station'])} (from the first cell)",
+                     _fmt(d["y_plus_at_reference"])))
     lo, hi = d["y_plus_range"]
     rows.append(("estimated y+ along the plate", f"{_fmt(lo)} to {_fmt(hi)}"))
     rows.append(("cells inside delta99 at x/L (nearest wall node)",

@@ -37,7 +37,9 @@ def _bl_markdown(bl: dict) -> list[str]:
                     r["first_cell_height_m"], r["y_plus"]] for r in bl["stations"]])
     out += ["", (f"Reference station x = {_fmt(ref['x_m'])} m: first cell "
                  f"{_fmt(ref['first_cell_height_m'])} m, "
-            f"y+ {_fmt(ref['y_plus'])} (target {_fmt(bl['y_plus_target'])}), largest wall-normal growth "
+            f"y+ {_fmt(ref['y_plus'])}"
+            + (f" (target {_fmt(bl['y_plus_target'])})" if bl["y_plus_target"] is not None else "")
+            + ", largest wall-normal growth "
             f"ratio {_fmt(ref['max_growth_ratio'])}."), "",
             (f"Estimated first-cell y+ along the plate: min {_fmt(yp['min'])}, length-weighted mean "
             f"{_fmt(yp['mean'])}, max {_fmt(yp['max'])}. Band {_fmt(yp['band'][0])} to {_fmt(yp['band'][1])} "

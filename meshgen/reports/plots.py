@@ -314,8 +314,9 @@ def y_plus_figure(report: dict, case_name: str):
     fig, ax = _figure()
     ax.axhspan(lo, hi, color=BAND_COLOUR, label=f"band {lo:.3g} to {hi:.3g} ({yp['band_rule']}): "
                f"{100 * yp['fraction_in_band']:.1f} % of the plate inside")
-    ax.axhline(bl["y_plus_target"], color="#4f8a4c", ls="--", lw=1.5,
-               label=f"target y+ = {bl['y_plus_target']:.3g}")
+    if bl["y_plus_target"] is not None:  # none when the first cell was not sized by a y+
+        ax.axhline(bl["y_plus_target"], color="#4f8a4c", ls="--", lw=1.5,
+                   label=f"target y+ = {bl['y_plus_target']:.3g}")
     ax.plot(x, y, color=SIZE_COLOUR, lw=2.2, label="estimated first-cell y+")
     ref = bl["reference"]
     if ref.get("y_plus") is not None:

@@ -26,6 +26,7 @@ from __future__ import annotations
 
 import difflib
 import math
+import re
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from pathlib import Path
@@ -39,6 +40,9 @@ from .results import NAME_COLUMNS, quantity_columns, read_csv_with_lines
 SWEEP_MANIFEST = "sweep.json"
 VARIANT_COLUMN = "variant"  # the variant folder names, as sweep.json lists them
 DEFAULT_TOL = 0.01  # common practice: a 1 % change is taken as domain-independent
+#: Largest magnitude of a key or a result: products in the relative changes and the fit
+#: stay finite in double precision (about 1.8e308) below it.
+MAX_MAGNITUDE = 1e100
 
 
 def _number(text: str) -> float | None:
@@ -87,8 +91,11 @@ def sweep_summary(
         values = [_number(str(r[c])) for r in rows]
         problems += [
             f"row {i + 1}, column {c!r}: {r[c]!r} is not a finite number"
+            if v is None or not math.isfinite(v) else
+            f"row {i + 1}, column {c!r}: {v:g} is too large a magnitude (above {MAX_MAGNITUDE:g}: its "
+            "differences and the fit would overflow); give the column in other units"
             for i, (r, v) in enumerate(zip(rows, values))
-            if v is None or not math.isfinite(v)
+            if v is None or not math.isfinite(v) or abs(v) > MAX_MAGNITUDE
         ]
         table[c] = np.array([np.nan if v is None else v for v in values])
     if problems:
@@ -114,7 +121,12 @@ def sweep_summary(
                 f"column {q!r}: 0 on the reference variant, so a relative change is undefined"
             )
             continue
-        rel = (v - v[ref]) / abs(v[ref])
+        with np.errstate(over="ignore"):
+            rel = (v - v[ref]) / abs(v[ref])
+        if not np.all(np.isfinite(rel)):
+            problems.append(f"column {q!r}: the relative changes against the reference value {v[ref]:g} "
+                            "overflow; give the column in other units")
+            continue
         within = np.abs(rel) <= tol
         out["quantities"][q] = {
             "reference_value": float(v[ref]),
@@ -225,6 +237,35 @@ def _manifest_values(path: Path, rows: list[dict], lines: list[int], manifest) -
     return found, values
 
 
+def _named_values(name: str) -> dict[str, float]:
+    """{sweep key: value} that a variant folder name states (``height_factor=15_upstream=1``)."""
+    out = {}
+    for k, v in re.findall(r"([A-Za-z][A-Za-z_]*)=([^_=]+)", name):
+        x = _number(v)
+        if x is not None:
+            out[full_key(k)] = x
+    return out
+
+
+def _check_variants_agree(path: Path, rows: list[dict], lines: list[int], columns: list[str]) -> None:
+    """Refuse rows whose key column contradicts what their ``variant`` says (sweep.json
+    beside the CSV when there is one, else the folder name itself)."""
+    beside = path.with_name(SWEEP_MANIFEST)
+    known = ({n: {full_key(k): x for k, x in v.items()} for n, v in read_sweep_variants(beside).items()}
+             if beside.is_file() else None)
+    problems = []
+    for row, ln in zip(rows, lines):  # per variant: a handful
+        name = str(row[VARIANT_COLUMN])
+        stated = known.get(name, {}) if known is not None else _named_values(name)
+        for c in columns:
+            v = stated.get(full_key(c))
+            if v is not None and not math.isclose(v, row[c], rel_tol=1e-9, abs_tol=1e-12):
+                problems.append(f"{path} line {ln}: {c} = {row[c]:g} but variant {name!r} has {c} = {v:g}; "
+                                f"correct the row, or drop the {c} or the {VARIANT_COLUMN} column")
+    if problems:
+        raise InputError(problems)
+
+
 def _pick_key(key: str | None, values: dict[str, list]) -> str:
     """The key to summarise: the one named, else the only one that varies among the rows."""
     varying = [k for k, col in values.items() if len(set(col)) > 1]
@@ -279,6 +320,8 @@ def read_sweep_results(
                 f"{', '.join(in_csv)}; drop the option or those columns"
             )
         values, found = {c: [r[c] for r in rows] for c in in_csv}, None
+        if VARIANT_COLUMN in rows[0]:
+            _check_variants_agree(path, rows, lines, in_csv)
     elif VARIANT_COLUMN in rows[0]:
         found, values = _manifest_values(path, rows, lines, manifest)
     elif key is not None:

@@ -25,10 +25,17 @@ _GOLDEN = (math.sqrt(5.0) - 1.0) / 2.0
 
 def _linear_fit(h: np.ndarray, phi: np.ndarray, q: float) -> tuple[float, float, float]:
     """(phi_inf, a, sum of squared residuals) of the fit with a given q."""
-    basis = np.column_stack([np.ones_like(h), h ** (-q)])
-    coef, *_ = np.linalg.lstsq(basis, phi, rcond=None)
-    resid = phi - basis @ coef
-    return float(coef[0]), float(coef[1]), float(resid @ resid)
+    with np.errstate(all="ignore"):  # H^-q past the float range: no fit at this q
+        basis = np.column_stack([np.ones_like(h), h ** (-q)])
+        if not np.all(np.isfinite(basis)):
+            return math.nan, math.nan, math.inf
+        try:
+            coef, *_ = np.linalg.lstsq(basis, phi, rcond=None)
+        except np.linalg.LinAlgError:
+            return math.nan, math.nan, math.inf
+        resid = phi - basis @ coef
+        ss = float(resid @ resid)
+    return float(coef[0]), float(coef[1]), ss if math.isfinite(ss) else math.inf
 
 
 def fit_power_law(h, phi, q: float | None = None) -> dict:
@@ -69,7 +76,11 @@ def fit_power_law(h, phi, q: float | None = None) -> dict:
     else:
         q_used, fitted, at_end = float(q), False, False
     phi_inf, a_scaled, ss = _linear_fit(hs, phi, q_used)
-    a = a_scaled * h.max() ** q_used  # back to the unscaled H
+    with np.errstate(all="ignore"):
+        a = a_scaled * h.max() ** q_used  # back to the unscaled H
+    if not (math.isfinite(phi_inf) and math.isfinite(a) and math.isfinite(ss)):
+        raise InputError(f"the fit phi_inf + a H^-q overflows for key values from {h.min():g} to {h.max():g} "
+                         f"(q = {q_used:.3g}); give the key in units that keep it nearer 1")
     rel = (phi - phi_inf) / abs(phi_inf) if phi_inf != 0 else np.full(phi.shape, np.nan)
     return {
         "phi_inf": phi_inf, "a": a, "q": q_used, "q_fitted": fitted,

@@ -212,27 +212,32 @@ def _triage(study: Study, root: Path, force: bool) -> tuple[list[dict], list[tup
 
 
 def run_study(study: Study, root: str | Path, workers: int = 1, force: bool = False,
-              scheduler: str | None = None, stream: TextIO | None = None) -> RunReport:
+              scheduler: str | None = None, stream: TextIO | None = None,
+              on_start: Callable[[], object] | None = None) -> RunReport:
     """Build every member of ``study`` under ``root``, writing ``<kind>.json`` as they finish.
 
     Bad input raises InputError before anything is written. Progress and failures go to
     ``stream`` (e.g. sys.stderr; None is silent) and into the returned RunReport; a failed
     member does not stop the others. KeyboardInterrupt stops the workers and propagates.
+    ``on_start`` is called once the run has passed its checks (e.g. to print the study's
+    warnings, so that a refused run shows its errors alone).
     """
     if workers < 1:
         raise InputError(f"--workers {workers}: must be 1 or more")
     root = Path(root).resolve()  # absolute: the workers may run in another folder or machine
     with folder_lock(root):  # the whole run; each member locks its own sub-folder
-        return _run_locked(study, root, workers, force, scheduler, stream)
+        return _run_locked(study, root, workers, force, scheduler, stream, on_start)
 
 
 def _run_locked(study: Study, root: Path, workers: int, force: bool, scheduler: str | None,
-                stream: TextIO | None) -> RunReport:
+                stream: TextIO | None, on_start: Callable[[], object] | None) -> RunReport:
     entries, todo, skipped = _triage(study, root, force)
     # Largest first: the finest member bounds the run's time, so it starts at once and the
     # others fill the remaining workers (a stable sort keeps equal members in order).
     todo.sort(key=lambda item: -item[0].plan.cell_count)
     client = connect(scheduler) if scheduler and todo else None
+    if on_start is not None:
+        on_start()
     manifest_path = root / study.manifest_name
     manifest = {**study.header, "kind": study.kind, CREATED: utc_now(), study.members_key: entries}
     report = RunReport(manifest_path, len(study.members), skipped=skipped)

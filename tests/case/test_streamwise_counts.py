@@ -46,3 +46,24 @@ def test_growth_ratio_with_cells_error_says_where_the_ratio_applies():
     text = "\n".join(exc.value.problems)
     assert "applies to the upstream and wake blocks only" not in text
     assert "default ratio 1.1" in text and "streamwise.upstream_cells" in text
+
+
+@pytest.mark.parametrize("cells", [2, 4, 10])
+def test_a_plate_count_too_small_for_its_edge_spacings_is_refused_with_the_count_that_fits(cells):
+    """Issue 11, item 4: cells = 4 built a plate whose growth ratio was 499 with no word,
+    and cells = 2 put 0.5 L at the leading edge. The solved ratio meets the wall's limit (2)."""
+    with pytest.raises(CaseError) as exc:
+        make_plan(load_case(None, REYNOLDS + [f"streamwise.cells={cells}"]))
+    (line,) = exc.value.problems
+    # each half-plate of 0.5 m from 1e-3 m at ratio 2: 1e-3 (2^n - 1) >= 0.5 gives n = 9
+    # (log2(501) = 8.97); from 5e-3 m: n = 7 (log2(101) = 6.66); so 2 x 9 = 18 cells
+    assert line.startswith(f"streamwise.cells = {cells}: ") and "valid up to 2" in line, line
+    assert "18 or more" in line, line
+
+
+def test_the_smallest_count_that_fits_is_accepted_and_keeps_the_limit():
+    plan = make_plan(load_case(None, REYNOLDS + ["streamwise.cells=18"]))
+    p = plan.block("plate")
+    r = growth_ratios(plan.x[p.i0 : p.i1 + 1])
+    assert r.max() <= 2.0 + 1e-12 and 1.0 / r.min() <= 2.0 + 1e-12
+    assert plan.x[p.i0 + 1] - plan.x[p.i0] == pytest.approx(1e-3, rel=1e-9)  # the leading-edge spacing

@@ -2,11 +2,13 @@
 
 import numpy as np
 import pytest
-from hypothesis import HealthCheck, given, settings
+from hypothesis import HealthCheck, example, given, settings
 from hypothesis import strategies as st
 
 from meshgen.case import load_case
+from meshgen.case.loading import SECTIONS
 from meshgen.core.errors import CaseError
+from meshgen.core.jsontext import dumps
 from meshgen.meshing.builder import build_mesh
 from meshgen.meshing.verify import verify_mesh
 from meshgen.planning.plan import make_plan
@@ -78,3 +80,45 @@ def test_extreme_but_valid(re, y_plus, regime):
         assert np.all(np.isfinite(yp)) and np.all(yp > 0)
         # the estimate at the reference station (the plate end) is the target
         assert yp[-1] == pytest.approx(y_plus, rel=1e-9)
+
+
+#: What a hostile user may give any key, as --set spells it: booleans, strings (numbers
+#: in quotes, path-like names), subnormal, huge and non-finite floats, out-of-range ints.
+HOSTILE = st.one_of(
+    st.sampled_from(["true", "false", '"1e5"', '"1"', '""', "5e-324", "1e-310", "1e308", "-1e308",
+                     "1.7976931348623157e308", "-0.0", "0", "nan", "-inf", "[1, 2]", '".."', '"."', '"/"',
+                     '"a/b"', '"../up"', '"~"', '".hidden"', '"-rf"', "..", "C:\\\\x", '"nul\\u0000"']),
+    st.floats(allow_nan=True, allow_infinity=True).map(repr),
+    st.integers(min_value=-(2**63), max_value=2**63 - 1).map(str),
+)
+KEYS = ["name"] + [f"{s}.{k}" for s, m in SECTIONS.items() for k in m.model_fields]
+
+
+@pytest.mark.filterwarnings("error::RuntimeWarning")  # numpy's warnings never reach the user
+@settings(max_examples=300, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(key=st.sampled_from(KEYS), value=HOSTILE)
+@example("flow.reynolds", "true")
+@example("domain.span_cells", "true")
+@example("flow.reynolds", '"1e5"')
+@example("name", '".."')
+@example("name", '"."')
+@example("flow.reynolds", "5e-324")
+@example("wall.first_cell_height", "5e-324")
+@example("wall.reference_station", "1e-300")
+@example("flow.temperature", "3.2e-279")
+@example("flow.length", "5e-324")
+@example("flow.mach", "1e-15")
+@example("streamwise.leading_edge_spacing", "5e-324")
+def test_hostile_values_are_refused_in_one_line_each_or_planned(key, value):
+    """Before (issue 11, items 8-11): true built Re_L = 1, "1e5" was read as a number, '..'
+    named the output folder, and subnormal values ended in tracebacks."""
+    try:
+        plan = make_plan(load_case(None, REYNOLDS_ONLY + ["flow.reynolds=1e5", f"{key}={value}",
+                                                          "output.max_cells=40000"]))
+    except CaseError as exc:
+        assert exc.problems and all(p.strip() and "\n" not in p for p in exc.problems), exc.problems
+        return
+    dumps(plan.to_dict())  # strict JSON: raises on NaN or infinity
+    name = plan.case.name
+    assert name not in (".", "..") and "/" not in name and "\\" not in name and not name.startswith(("-", "."))
+    assert np.all(np.isfinite(plan.x)) and np.all(np.isfinite(plan.y)) and plan.first_cell_height > 0

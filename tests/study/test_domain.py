@@ -196,6 +196,11 @@ GOOD = "height_factor,cd\n10,1.02\n20,1\n"
          "not a readable JSON manifest"),
         ({"r.csv": "variant,cd\nheight_factor=10,1\nheight_factor=20,2\n", "sweep.json": MANIFEST},
          ["r.csv", "--key", "span"], "neither a CSV column nor a key of the sweep"),
+        # issue 11, item 12: a key column that contradicts the variant (before: the column won)
+        ({"r.csv": "variant,height_factor,cd\nheight_factor=10,20,1\nheight_factor=20,10,2\n",
+          "sweep.json": MANIFEST}, ["r.csv"], "line 2: height_factor = 20 but variant 'height_factor=10'"),
+        ({"r.csv": "variant,height_factor,cd\nheight_factor=10,10,1\nheight_factor=20,15,2\n"}, ["r.csv"],
+         "line 3: height_factor = 15 but variant 'height_factor=20' has height_factor = 20"),
     ],
 )
 def test_bad_input_is_exit_2(tmp_path, monkeypatch, capsys, files, argv, expected):
@@ -253,3 +258,20 @@ def test_plot_domain_writes_atomically_where_asked(tmp_path):
     s = domain_summary(write(tmp_path / "r.csv", HAND_CSV))
     out = plot_domain(s, tmp_path / "a" / "b.png")
     assert out == tmp_path / "a" / "b.png" and out.stat().st_size > 10_000
+
+
+def test_a_key_column_that_agrees_with_its_variants_is_used(tmp_path, capsys):
+    write(tmp_path / "r.csv", "variant,height_factor,cd\nheight_factor=10,10,1\nheight_factor=20,20,1.004\n")
+    assert main(["domain", str(tmp_path / "r.csv"), "--json"]) == 0
+    assert json.loads(capsys.readouterr().out)["all_within"] is True
+
+
+@pytest.mark.filterwarnings("error::RuntimeWarning")
+def test_keys_far_apart_give_a_summary_without_overflow(tmp_path, capsys):
+    """Keys from 1e-90 to 1e90: H^-q leaves the float range for most q; those are skipped."""
+    write(tmp_path / "r.csv", "height_factor,cd\n1e-90,1\n20,1.7\n1e90,1.2\n")
+    assert main(["domain", str(tmp_path / "r.csv"), "--json"]) == 0
+    def refuse(c):
+        raise ValueError(c)
+    data = json.loads(capsys.readouterr().out, parse_constant=refuse)
+    assert data["all_within"] is False
