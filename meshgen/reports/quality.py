@@ -285,9 +285,9 @@ def quality_report(mesh: Mesh, boundary_layer: dict | None = None, angle_limit: 
     """The whole quality summary as plain JSON-ready data (``boundary_layer``, the result
     of ``boundary_layer_report``, is embedded when given; ``angle_limit`` [deg] is the
     largest acceptable centre-line angle)."""
-    finite = np.isfinite(mesh.points).all(axis=1)
-    if not finite.all():
-        return _non_finite_report(mesh, finite, boundary_layer, angle_limit)
+    lo, hi = bounds(mesh)  # NaN or infinite when any node is (min and max propagate NaN)
+    if not (np.all(np.isfinite(lo)) and np.all(np.isfinite(hi))):
+        return _non_finite_report(mesh, np.isfinite(mesh.points).all(axis=1), boundary_layer, angle_limit)
     notes: list[str] = []
     errors: list[str] = []
     structured = recover_structure(mesh)
@@ -317,7 +317,6 @@ def quality_report(mesh: Mesh, boundary_layer: dict | None = None, angle_limit: 
     if inverted:
         errors.append(f"{inverted} inverted cells (negative scaled Jacobian)")
     notes.append(ANISOTROPY_NOTE)
-    lo, hi = bounds(mesh)
     report = {
         "mesh": {"dim": mesh.dim, "cell_type": mesh.cell_type, "n_points": mesh.n_points,
                  "n_cells": mesh.n_cells, "groups": mesh.group_sizes(),
