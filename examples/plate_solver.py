@@ -71,18 +71,8 @@ from pathlib import Path
 import meshio
 import numpy as np
 import scipy.sparse as sp
+import skfem as fem
 from scipy.sparse.linalg import splu
-from skfem import (
-    Basis,
-    BilinearForm,
-    ElementQuad1,
-    ElementQuad2,
-    ElementVector,
-    FacetBasis,
-    LinearForm,
-    MeshQuad1,
-    asm,
-)
 from skfem.helpers import ddot, div, dot, grad, mul
 
 #: Reynolds number the continuation starts from: Newton converges there from a uniform
@@ -135,11 +125,11 @@ def read_member(folder: Path) -> Member:
                   float(plan["length"]), groups, folder / msh[0])
 
 
-def load_mesh(member: Member) -> tuple[MeshQuad1, dict[str, np.ndarray]]:
+def load_mesh(member: Member) -> tuple[fem.MeshQuad1, dict[str, np.ndarray]]:
     """The quads as a scikit-fem mesh and each role's boundary facets (indices into mesh.facets)."""
     m = meshio.gmsh.read(str(member.mesh_file))
     quads = np.concatenate([b.data for b in m.cells if b.type == "quad"])
-    mesh = MeshQuad1(np.ascontiguousarray(m.points[:, :2].T), np.ascontiguousarray(quads.T))
+    mesh = fem.MeshQuad1(np.ascontiguousarray(m.points[:, :2].T), np.ascontiguousarray(quads.T))
     n = mesh.p.shape[1]
     facet_key = mesh.facets[0].astype(np.int64) * n + mesh.facets[1]
     order = np.argsort(facet_key)
@@ -156,26 +146,26 @@ def load_mesh(member: Member) -> tuple[MeshQuad1, dict[str, np.ndarray]]:
     return mesh, facets
 
 
-@BilinearForm
+@fem.BilinearForm
 def jacobian_form(du, v, w):
     """Newton's matrix of viscous + convective terms about the iterate w.u0."""
     u0 = w["u0"]
     return w["nu"] * ddot(grad(du), grad(v)) + dot(mul(grad(du), u0) + mul(grad(u0), du), v)
 
 
-@LinearForm
+@fem.LinearForm
 def newton_rhs(v, w):
     """((u0 . grad) u0, v): what Newton's linearisation moves to the right-hand side."""
     u0 = w["u0"]
     return dot(mul(grad(u0), u0), v)
 
 
-@BilinearForm
+@fem.BilinearForm
 def divergence_form(u, q, w):
     return div(u) * q
 
 
-@BilinearForm
+@fem.BilinearForm
 def trace_mass(u, v, w):
     return u * v
 
@@ -216,10 +206,10 @@ class PlateProblem:
         self.member = member
         self.mesh, self.facets = load_mesh(member)
         # 4 x 4 Gauss points integrate the convective term exactly on rectangles.
-        self.ub = Basis(self.mesh, ElementVector(ElementQuad2()), intorder=6)
-        self.pb = Basis(self.mesh, ElementQuad1(), quadrature=self.ub.quadrature)
+        self.ub = fem.Basis(self.mesh, fem.ElementVector(fem.ElementQuad2()), intorder=6)
+        self.pb = fem.Basis(self.mesh, fem.ElementQuad1(), quadrature=self.ub.quadrature)
         self.nu_dofs, self.np_dofs = self.ub.N, self.pb.N
-        self.B = asm(divergence_form, self.ub, self.pb)  # (np, nu): q div u
+        self.B = fem.asm(divergence_form, self.ub, self.pb)  # (np, nu): q div u
         self._set_dirichlet()
         self.order: np.ndarray | None = None
 
@@ -251,9 +241,9 @@ class PlateProblem:
         - (u0 . grad) u0, so the new iterate solves J x = ((u0 . grad) u0, v) directly.
         """
         w = self.ub.interpolate(x0[: self.nu_dofs])
-        J = asm(jacobian_form, self.ub, u0=w, nu=nu)
+        J = fem.asm(jacobian_form, self.ub, u0=w, nu=nu)
         K = sp.bmat([[J, -self.B.T], [-self.B, None]], format="csr")
-        rhs = np.concatenate([asm(newton_rhs, self.ub, u0=w), np.zeros(self.np_dofs)])
+        rhs = np.concatenate([fem.asm(newton_rhs, self.ub, u0=w), np.zeros(self.np_dofs)])
         x = np.where(np.isin(np.arange(rhs.size), self.fixed), self.values, 0.0)
         rhs = (rhs - K @ x)[self.free]
         Kf = K[self.free][:, self.free]
@@ -331,16 +321,16 @@ class PlateProblem:
         # on the plate (n = (0, -1)); the pressure gives no x-force there.
         n = self.nu_dofs
         w = self.ub.interpolate(x[:n])
-        residual = asm(jacobian_form, self.ub, u0=w, nu=nu) @ x[:n] - asm(newton_rhs, self.ub, u0=w)
+        residual = fem.asm(jacobian_form, self.ub, u0=w, nu=nu) @ x[:n] - fem.asm(newton_rhs, self.ub, u0=w)
         residual -= self.B.T @ x[n:]
         # Scalar Q2 dofs and the x-velocity dofs share their layout (vertex, edge, interior).
-        sb = Basis(self.mesh, ElementQuad2())
+        sb = fem.Basis(self.mesh, fem.ElementQuad2())
         to_vector = np.empty(sb.N, dtype=np.int64)
         for kind in ("nodal_dofs", "facet_dofs", "interior_dofs"):
             to_vector[getattr(sb, kind)[0]] = getattr(self.ub, kind)[0]
         scalar = sb.get_dofs(wall).all()
         reaction = -residual[to_vector[scalar]]
-        mass = asm(trace_mass, FacetBasis(self.mesh, ElementQuad2(), facets=wall))
+        mass = fem.asm(trace_mass, fem.FacetBasis(self.mesh, fem.ElementQuad2(), facets=wall))
         shear = splu(mass[scalar][:, scalar].tocsc()).solve(reaction)
         at_nodes = shear[np.searchsorted(scalar, nodes)]  # scalar vertex dof i is mesh node i
         return WallShear(xs[order], at_nodes[order], heights, float(reaction.sum()))
@@ -359,7 +349,7 @@ class PlateProblem:
         """nu du/dy at the wall nodes (x sorted: xs), averaged over the two facets that meet there."""
         # Quadrature points at the facet ends (the weights are not used): the wall nodes.
         pts, wts = np.array([[0.0, 1.0]]), np.array([0.5, 0.5])
-        fb = FacetBasis(self.mesh, ElementVector(ElementQuad2()), facets=wall, quadrature=(pts, wts))
+        fb = fem.FacetBasis(self.mesh, fem.ElementVector(fem.ElementQuad2()), facets=wall, quadrature=(pts, wts))
         dudy = fb.interpolate(x[: self.nu_dofs]).grad[0, 1]  # (facets, ends)
         xq = fb.global_coordinates().value[0]
         mid = np.concatenate([[-np.inf], 0.5 * (xs[1:] + xs[:-1])])
