@@ -20,8 +20,7 @@ GOAL_PICTURES_SECONDS = 1.0
 GOAL_STARTUP_SECONDS = 0.2
 #: Formats written at the 3-D size too, and why the others are not: they build the whole
 #: mesh in memory instead of streaming it layer by layer.
-NOT_STREAMED = {"su2": "not streamed (ASCII of the whole mesh)",
-                "polymesh": "not streamed (faces of the whole mesh)"}
+NOT_STREAMED = {"su2": "not streamed (ASCII of the whole mesh)"}
 EXPONENT_BAND = (0.9, 1.1)
 #: Formats gmsh itself writes (the rate goal is for meshgen's own writers): none since
 #: MSH is written with numpy too.

@@ -379,16 +379,24 @@ def write_polymesh(mesh: Mesh, out_dir: Path, span: float | None = None) -> Path
     elif span is not None:
         raise WriteError(f"polymesh: span {span} m given for a 3-D mesh; it applies to 2-D meshes only")
     _check_names(mesh)
-    pm = polymesh(mesh)
+    from . import foam_stream  # a lazy tensor-grid extrusion: layer by layer (foam_stream.py)
+
     target = Path(out_dir) / "constant" / "polyMesh"
+    files = None
+    if foam_stream.streamable(mesh):
+        try:
+            files = foam_stream.file_chunks(mesh, note)
+        except ValueError:
+            files = None  # groups off the grid: the general path names the problem
     try:
-        files = file_chunks(pm, note)
-    except ValueError as exc:
+        if files is None:
+            files = file_chunks(polymesh(mesh), note)
+        with atomic_dir(target) as tmp:
+            for name, chunks in files.items():
+                with open(tmp / name, "wb") as fh:
+                    fh.writelines(chunks)
+    except ValueError as exc:  # the text formatter's refusals (non-finite coordinates)
         raise WriteError(f"{target}: {exc}") from exc
-    with atomic_dir(target) as tmp:
-        for name, chunks in files.items():
-            with open(tmp / name, "wb") as fh:
-                fh.writelines(chunks)
     return target
 
 
