@@ -34,12 +34,12 @@ def files(paths) -> dict[str, bytes]:
     return out
 
 
-STREAMED = ["msh", "msh2", "cgns", "cgns-single", "vtu", "plot3d", "polymesh"]
+STREAMED = ["msh", "msh2", "cgns", "cgns-single", "vtu", "plot3d", "polymesh", "polymesh-binary"]
 
 
 #: (format, structured layout): Plot3D has no unstructured form; polyMesh streams grids
 #: only (an unstructured one takes the general path, built).
-CASES = [(f, s) for f in STREAMED for s in (True, False) if s or f not in ("plot3d", "polymesh")]
+CASES = [(f, s) for f in STREAMED for s in (True, False) if s or f not in ("plot3d", "polymesh", "polymesh-binary")]
 
 
 @pytest.mark.parametrize("fmt, structured", CASES, ids=[f"{f}-{'grid' if s else 'flat'}" for f, s in CASES])
@@ -80,3 +80,31 @@ def test_lazy_mesh_written_in_default_pieces_gives_the_same_bytes(tmp_path, fmt,
     a = files(FORMATS[fmt].write(m, tmp_path / "lazy", "m"))
     b = files(FORMATS[fmt].write(built(m), tmp_path / "built", "m"))
     assert a.keys() == b.keys() and a == b
+
+
+@pytest.mark.parametrize("kind", ["2d", "lazy", "shuffled"])
+def test_binary_polymesh_reads_back_as_the_ascii_one(tmp_path, kind):
+    """foamlib (an independent parser of OpenFOAM files) reads the binary files into the same
+    points, faces, owners, neighbours and patches as the ASCII ones; the faces come as a
+    faceCompactList (offsets 0, 4, 8, ... into the node labels)."""
+    from foamlib import FoamFile
+
+    from meshgen.io.writers.foam import write_polymesh
+
+    m = lazy()
+    if kind == "2d":
+        m = m.base
+    elif kind == "shuffled":  # no grid layout: the general path
+        b = built(m)
+        order = np.random.default_rng(2).permutation(b.n_cells)
+        m = Mesh(b.points, b.cells[order], b.groups)
+    a = write_polymesh(m, tmp_path / "ascii")
+    b = write_polymesh(m, tmp_path / "binary", binary=True)
+    for name in ("points", "owner", "neighbour", "boundary"):
+        x, y = FoamFile(a / name)[None], FoamFile(b / name)[None]
+        assert (np.array_equal(x, y) if name != "boundary" else x == y), name
+    offsets, labels = FoamFile(b / "faces")[None]
+    faces = np.asarray(FoamFile(a / "faces")[None])
+    np.testing.assert_array_equal(offsets, 4 * np.arange(faces.shape[0] + 1))
+    np.testing.assert_array_equal(labels.reshape(-1, 4), faces)
+    assert "format      binary;" in (b / "owner").read_bytes()[:400].decode("latin-1")

@@ -359,11 +359,11 @@ def _check_names(mesh: Mesh) -> None:
         raise WriteError(f"polymesh: patch names repeat: {names}; each group needs its own name")
 
 
-def write_polymesh(mesh: Mesh, out_dir: Path, span: float | None = None) -> Path:
+def write_polymesh(mesh: Mesh, out_dir: Path, span: float | None = None, binary: bool = False) -> Path:
     """Write ``<out_dir>/constant/polyMesh/`` atomically and return that folder.
 
     ``span`` [m] is the extrusion depth of a 2-D mesh (default :func:`extrusion_span`);
-    a 3-D mesh is written as it is and takes no span.
+    a 3-D mesh is written as it is and takes no span. ``binary``: OpenFOAM's binary format.
     """
     note = None
     if mesh.dim == 2:
@@ -379,18 +379,11 @@ def write_polymesh(mesh: Mesh, out_dir: Path, span: float | None = None) -> Path
     elif span is not None:
         raise WriteError(f"polymesh: span {span} m given for a 3-D mesh; it applies to 2-D meshes only")
     _check_names(mesh)
-    from . import foam_stream  # a lazy tensor-grid extrusion: layer by layer (foam_stream.py)
+    from .foam_stream import polymesh_files  # piece by piece, a lazy grid layer by layer
 
     target = Path(out_dir) / "constant" / "polyMesh"
-    files = None
-    if foam_stream.streamable(mesh):
-        try:
-            files = foam_stream.file_chunks(mesh, note)
-        except ValueError:
-            files = None  # groups off the grid: the general path names the problem
     try:
-        if files is None:
-            files = file_chunks(polymesh(mesh), note)
+        files = polymesh_files(mesh, note, binary)
         with atomic_dir(target) as tmp:
             for name, chunks in files.items():
                 with open(tmp / name, "wb") as fh:

@@ -1,6 +1,11 @@
-"""The polyMesh files of a lazy tensor-grid extrusion, written layer by layer.
+"""The polyMesh files piece by piece, ASCII or OpenFOAM's binary format; a lazy
+tensor-grid extrusion layer by layer.
 
-The same files as ``foam.py`` writes (byte for byte; tests/io/test_streamed.py), for an
+ASCII: the same files as ``foam.file_chunks`` (byte for byte; tests/io/test_streamed.py).
+Binary (format ``polymesh-binary``): OpenFOAM's binary FoamFile (header ``format binary``,
+``arch "LSB;label=32;scalar=64"``; each list ``N`` then ``(`` raw numbers ``)``; faces as a
+faceCompactList), from the OpenFOAM User Guide's description of the polyMesh and its file
+format (from memory) and read back by foamlib in the tests. Streaming applies to an
 ``ExtrudedMesh`` whose base is a tensor grid and which has no periodic pair, without any
 array of the whole mesh's size. Internal faces are listed cell by cell (+i, +j, +k faces
 of each cell, ``foam._grid_paired``'s upper-triangular order), so the faces owned by one
@@ -12,13 +17,16 @@ with each cell's first node computed from its id.
 
 from __future__ import annotations
 
-from collections.abc import Iterator
+from collections.abc import Callable, Iterator
+from dataclasses import dataclass
+from pathlib import Path
 
 import numpy as np
 
 from ...meshing.mesh import ExtrudedMesh, Mesh, point_blocks, span_boundary
 from ...meshing.verify import HEX_FACES, is_tensor_grid
 from .foam import _GRID_INNER, PATCH_TYPE, SPAN_PATCH, PolyMesh, _boundary, _header, _place_grid_facets
+from .registry import Format, register
 from .su2 import ascii_blocks
 
 
@@ -87,15 +95,27 @@ class _Layers:
         return self.templates[k == self.c - 1][part] + k * (self.n2 if part == 0 else self.m2)
 
 
-def file_chunks(mesh: ExtrudedMesh, points_note: str | None = None) -> dict[str, Iterator[bytes | np.ndarray]]:
-    """The five files as byte-chunk iterators, by file name (``foam.file_chunks``' bytes).
+@dataclass(frozen=True)
+class Parts:
+    """A polyMesh as counts, the boundary file's patches and the big lists piece by piece:
+    each of ``points``, ``faces``, ``owner``, ``neighbour`` returns a fresh iterator of arrays."""
 
-    Raises ValueError when the groups do not fit the grid (the caller then takes the
-    general path, which names the problem)."""
+    n_points: int
+    n_cells: int
+    n_faces: int
+    n_inner: int
+    boundary: PolyMesh  # only its patches (and cyclic pairs) are used
+    points: Callable[[], Iterator[np.ndarray]]
+    faces: Callable[[], Iterator[np.ndarray]]
+    owner: Callable[[], Iterator[np.ndarray]]
+    neighbour: Callable[[], Iterator[np.ndarray]]
+
+
+def streamed_parts(mesh: ExtrudedMesh) -> Parts:
+    """The Parts of a :func:`streamable` mesh, layer by layer; ValueError when its groups do
+    not fit the grid (the general path then names the problem)."""
     lay = _Layers(mesh)
     nk = mesh.shape[2]
-    n_faces = lay.n_inner + lay.faces.shape[0]
-    counts = f"nPoints:{mesh.n_points}  nCells:{mesh.n_cells}  nFaces:{n_faces}  nInternalFaces:{lay.n_inner}"
     span = span_boundary(mesh)
     patches, start = [], lay.n_inner
     for g in mesh.groups:  # a loop over the handful of boundary groups
@@ -105,34 +125,131 @@ def file_chunks(mesh: ExtrudedMesh, points_note: str | None = None) -> dict[str,
     empty = np.empty(0, np.int64)
     pm = PolyMesh(points=np.empty((0, 3)), faces=np.empty((0, 4), np.int64), owner=empty, neighbour=empty,
                   patches=tuple(patches), n_cells=mesh.n_cells)
+
+    def column(part: int, tail: np.ndarray | None):
+        def pieces():
+            for k in range(nk - 1):  # layers
+                yield lay.layer(k, part)
+            if tail is not None:
+                yield tail
+        return pieces
+
+    return Parts(mesh.n_points, mesh.n_cells, lay.n_inner + lay.faces.shape[0], lay.n_inner, pm,
+                 lambda: point_blocks(mesh, 1 << 18), column(0, lay.faces), column(1, lay.owner), column(2, None))
+
+
+def whole_parts(pm: PolyMesh) -> Parts:
+    """The Parts of a PolyMesh held whole (the general path), one piece each."""
+    return Parts(pm.points.shape[0], pm.n_cells, pm.faces.shape[0], pm.neighbour.size, pm,
+                 lambda: iter([pm.points]), lambda: iter([pm.faces]), lambda: iter([pm.owner]),
+                 lambda: iter([pm.neighbour]))
+
+
+def _counts(parts: Parts) -> str:
+    return (f"nPoints:{parts.n_points}  nCells:{parts.n_cells}  nFaces:{parts.n_faces}  "
+            f"nInternalFaces:{parts.n_inner}")
+
+
+def text_chunks(parts: Parts, points_note: str | None = None) -> dict[str, Iterator[bytes | np.ndarray]]:
+    """The five ASCII files as byte-chunk iterators (``foam.file_chunks``' bytes)."""
     quad = [b"4(", b" ", b" ", b" ", b")\n"]
 
-    def points():
-        yield _header("vectorField", "points", points_note) + f"{mesh.n_points}\n(\n".encode()
-        for p in point_blocks(mesh, 1 << 18):
-            yield from ascii_blocks([p[:, 0], p[:, 1], p[:, 2]], [b"(", b" ", b" ", b")\n"])
+    def listed(head: bytes, n: int, pieces, columns: int, seps):
+        yield head + f"{n}\n(\n".encode()
+        for a in pieces():
+            yield from ascii_blocks([a[:, q] for q in range(columns)] if columns else [a], seps)
         yield b")\n"
+
+    counts = _counts(parts)
+    return {
+        "points": listed(_header("vectorField", "points", points_note), parts.n_points, parts.points, 3,
+                         [b"(", b" ", b" ", b")\n"]),
+        "faces": listed(_header("faceList", "faces"), parts.n_faces, parts.faces, 4, quad),
+        "owner": listed(_header("labelList", "owner", counts), parts.n_faces, parts.owner, 0, [b"", b"\n"]),
+        "neighbour": listed(_header("labelList", "neighbour", counts), parts.n_inner, parts.neighbour, 0,
+                            [b"", b"\n"]),
+        "boundary": iter([_header("polyBoundaryMesh", "boundary"), _boundary(parts.boundary)]),
+    }
+
+
+#: How a binary file says what its numbers are (OpenFOAM's FoamFile ``arch`` entry).
+ARCH = "LSB;label=32;scalar=64"
+
+
+def _binary_header(cls: str, obj: str, note: str | None = None) -> bytes:
+    text = _header(cls, obj, note).decode()
+    return text.replace("    format      ascii;\n", f'    format      binary;\n    arch        "{ARCH}";\n').encode()
+
+
+def _labels(a: np.ndarray) -> np.ndarray:
+    if a.size and int(a.max()) >= 2**31:
+        raise ValueError(f"label {int(a.max())} does not fit OpenFOAM's 32-bit labels")
+    return np.ascontiguousarray(a, dtype="<i4")
+
+
+def binary_chunks(parts: Parts, points_note: str | None = None) -> dict[str, Iterator[bytes | np.ndarray]]:
+    """The five files in OpenFOAM's binary format: each list ``N`` then ``(`` raw
+    little-endian numbers ``)`` (labels int32, scalars float64); the faces as a
+    faceCompactList: the N + 1 offsets into the node labels, then the labels."""
+
+    def listed(head: bytes, n: int, pieces, convert):
+        yield head + f"{n}\n(".encode()
+        for a in pieces():
+            yield convert(a)
+        yield b")\n"
+
+    def offsets():
+        step = 1 << 20
+        for s in range(0, parts.n_faces + 1, step):  # blocks of offsets: 4 nodes per face
+            yield 4 * np.arange(s, min(s + step, parts.n_faces + 1), dtype=np.int64)
 
     def faces():
-        yield _header("faceList", "faces") + f"{n_faces}\n(\n".encode()
-        for k in range(nk - 1):  # layers
-            f = lay.layer(k, 0)
-            yield from ascii_blocks([f[:, q] for q in range(4)], quad)
-        yield from ascii_blocks([lay.faces[:, q] for q in range(4)], quad)
-        yield b")\n"
+        yield from listed(_binary_header("faceCompactList", "faces"), parts.n_faces + 1, offsets, _labels)
+        yield from listed(b"\n\n", 4 * parts.n_faces, parts.faces, _labels)
 
-    def labels(name: str, n: int, column: int, boundary: np.ndarray | None):
-        yield _header("labelList", name, counts) + f"{n}\n(\n".encode()
-        for k in range(nk - 1):
-            yield from ascii_blocks([lay.layer(k, column)], [b"", b"\n"])
-        if boundary is not None:
-            yield from ascii_blocks([boundary], [b"", b"\n"])
-        yield b")\n"
-
+    counts = _counts(parts)
+    if 4 * parts.n_faces >= 2**31:
+        raise ValueError(f"{4 * parts.n_faces} face nodes do not fit OpenFOAM's 32-bit labels")
     return {
-        "points": points(),
+        "points": listed(_binary_header("vectorField", "points", points_note), parts.n_points, parts.points,
+                         lambda a: np.ascontiguousarray(a, dtype="<f8")),
         "faces": faces(),
-        "owner": labels("owner", n_faces, 1, lay.owner),
-        "neighbour": labels("neighbour", lay.n_inner, 2, None),
-        "boundary": iter([_header("polyBoundaryMesh", "boundary"), _boundary(pm)]),
+        "owner": listed(_binary_header("labelList", "owner", counts), parts.n_faces, parts.owner, _labels),
+        "neighbour": listed(_binary_header("labelList", "neighbour", counts), parts.n_inner, parts.neighbour,
+                            _labels),
+        "boundary": iter([_binary_header("polyBoundaryMesh", "boundary"), _boundary(parts.boundary)]),
     }
+
+
+def polymesh_files(mesh: Mesh, note: str | None, binary: bool) -> dict[str, Iterator[bytes | np.ndarray]]:
+    """The files of ``mesh`` (3-D), streamed layer by layer when it is :func:`streamable`."""
+    from .foam import polymesh
+
+    parts = None
+    if streamable(mesh):
+        try:
+            parts = streamed_parts(mesh)
+        except ValueError:
+            parts = None  # groups off the grid: the general path names the problem
+    if parts is None:
+        parts = whole_parts(polymesh(mesh))
+    return (binary_chunks if binary else text_chunks)(parts, note)
+
+
+def write_binary(mesh: Mesh, out_dir: Path, stem: str) -> list[Path]:
+    """Registry entry of ``polymesh-binary`` (the folder layout is OpenFOAM's own)."""
+    from .foam import write_polymesh
+
+    return [write_polymesh(mesh, out_dir, binary=True)]
+
+
+register(
+    Format(
+        name="polymesh-binary",
+        description="OpenFOAM polyMesh folder constant/polyMesh in OpenFOAM's binary format (the same "
+                    "folder as polymesh: choose one)",
+        solvers="OpenFOAM (any recent release)",
+        outputs=lambda d, s: [Path(d) / "constant" / "polyMesh"],
+        write=write_binary,
+    )
+)
