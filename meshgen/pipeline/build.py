@@ -7,13 +7,15 @@ written atomically; ``plan.json`` is written last, so its presence marks a finis
 
 from __future__ import annotations
 
+import json
 import os
+import shutil
 from collections.abc import Callable
 from pathlib import Path
 
 import numpy as np
 
-from ..core.errors import InputError
+from ..core.errors import InputError, WriteError
 from ..core.jsontext import dumps
 from ..io.atomic import clean_stale, write_text
 from ..io.lock import folder_lock
@@ -121,6 +123,7 @@ def _build_locked(plan: Plan, out: Path, fmts, force: bool, pictures: bool, verb
     clean_stale(out)
     progress(f"building {plan.cell_count:,} cells ({plan.case.name}, level {plan.level})")
     mesh = verified_mesh(plan, verbose)
+    previous = _previous_files(out)
     # From here on the folder no longer holds one finished build, whatever happens next.
     (out / "plan.json").unlink(missing_ok=True)
     written: list[Path] = []
@@ -129,10 +132,42 @@ def _build_locked(plan: Plan, out: Path, fmts, force: bool, pictures: bool, verb
         written += f.write(mesh, out, stem)
     extra = _after_build_hooks(plan, mesh, out, pictures, progress)
     written += extra
+    _remove_previous(out, previous, written, progress)
     d = plan.to_dict()
     d["files"] = [str(p.relative_to(out)) for p in written]
     written.append(write_text(out / "plan.json", dumps(d, what=str(out / "plan.json")) + "\n"))
     return written
+
+
+def _previous_files(out: Path) -> list[str]:
+    """The files the folder's last finished build listed in its plan.json (none if unreadable)."""
+    try:
+        files = json.loads((out / "plan.json").read_text())["files"]
+    except (OSError, ValueError, KeyError, TypeError):
+        return []
+    return [f for f in files if isinstance(f, str)] if isinstance(files, list) else []
+
+
+def _remove_previous(out: Path, previous: list[str], written: list[Path], progress: Progress) -> None:
+    """Remove what the previous build wrote and this one did not (a --force build of
+    other formats or another case): left beside the new plan.json, an old VTU or polyMesh
+    would pass for a mesh of this case. Only paths inside ``out`` that the old plan.json
+    recorded are touched, never a file of the user's."""
+    now = {str(p.relative_to(out)) for p in written}
+    root = out.resolve()
+    for rel in previous:
+        p = out / rel
+        if rel in now or p.is_symlink() or not p.exists() or root not in p.resolve().parents:
+            continue
+        try:
+            shutil.rmtree(p) if p.is_dir() else p.unlink()
+        except OSError as exc:
+            raise WriteError(f"{p}: left from the previous build and cannot be removed: {exc.strerror}") from exc
+        progress(f"removed {p} (written by the previous build, not by this one)")
+        for d in p.parents:  # an emptied constant/ goes too
+            if d.resolve() == root or any(d.iterdir()):
+                break
+            d.rmdir()
 
 
 def quality_for_plan(plan: Plan, mesh) -> dict:
