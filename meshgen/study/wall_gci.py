@@ -4,7 +4,7 @@ Each level of a family has a wall distribution (``DIR/<level>/NAME.csv``, wall_d
 each is interpolated linearly to common stations x/L (default ``DEFAULT_STATIONS``), and
 ``meshgen.study.gci.study`` runs at every station for every quantity, with h from
 ``family.json`` (Celik et al. 2008, J. Fluids Eng. 130(7) 078001). The finest triplet (or
-pair) gives each station's extrapolated value, GCI and band phi_ext21 +- u_fine21; the
+pair) gives each station's extrapolated value, GCI and band phi1 +- u_fine21 (around the fine value); the
 station's kind of convergence (monotonic, oscillatory, divergent, indeterminate) and
 whether its GCI is a result (``gci_report.unreliable_because``) are kept with it, so
 oscillatory and divergent stations are marked, not hidden.

@@ -91,12 +91,14 @@ def _plot_one(ax, q: str, res: Mapping) -> None:
     ok = np.array([r["reliable"] and r["phi_ext"] is not None for r in rows])
     ext = np.array([r["phi_ext"] if r["phi_ext"] is not None else np.nan for r in rows], dtype=float)
     u = np.array([r["u_fine"] if r["u_fine"] is not None else np.nan for r in rows], dtype=float)
+    fine = np.array([r["phi"][0] for r in rows])
     if ok.any():
-        ax.fill_between(s, ext - u, ext + u, where=ok, color=BAND_COLOUR, alpha=0.7, lw=0,
-                        label="GCI band (phi_ext21 \u00b1 u_fine21)", zorder=1)
+        # The GCI qualifies the fine-grid value (Celik et al. 2008, eq. 10: phi1 +- GCI), as
+        # in the scalar picture; the extrapolated curve should fall inside the band.
+        ax.fill_between(s, fine - u, fine + u, where=ok, color=BAND_COLOUR, alpha=0.7, lw=0,
+                        label="GCI band of the finest level (phi1 \u00b1 u_fine21)", zorder=1)
         ax.plot(np.where(ok, s, np.nan), np.where(ok, ext, np.nan), "o-", color=EXT_COLOUR, ms=3.5, lw=1.2,
                 label="extrapolated (Richardson, Celik et al. 2008)", zorder=4)
-    fine = np.array([r["phi"][0] for r in rows])
     for kind, colour, marker in (("oscillatory", OSC_COLOUR, "D"), ("divergent", DIV_COLOUR, "X"),
                                  ("indeterminate", DIV_COLOUR, "s")):
         at = np.array([r["kind"] == kind for r in rows])
