@@ -36,6 +36,8 @@ MIN_DISPLAY_RATIO = 0.33
 ZOOM_HEIGHTS, ZOOM_WIDTH, ZOOM_CELLS = 30.0, 0.04, 6.0
 #: Margin around a panel's window, as a fraction of its size, so edge lines show whole.
 MARGIN = 0.015
+#: Gap [points] between the zoom panel and its title, above the y axis's offset text.
+ZOOM_TITLE_PAD = 20
 
 #: Titles sit at the top of their axes (a given height spares matplotlib measuring every
 #: tick label to place them).
@@ -234,13 +236,15 @@ def mesh_figure(mesh: Mesh, report: dict, case_name: str):
         # tiny wall distances: a power-of-ten offset instead of long tick labels
         zx.ticklabel_format(axis="y", style="sci", scilimits=(-2, 3))
         x_le = grid[0, wall_i[0], 0] + 0.0  # + 0.0 turns -0.0 into 0.0
+        # pad: the offset ("1e-4") stands above the y axis, under the title's left end
         zx.set_title(f"leading edge (x = {x_le:.3g} m), {_thin_note(ki, kj) or 'every grid line'}: "
-                     f"{window}{stretch}", color=INK, fontsize=13, y=TITLE_Y)
+                     f"{window}{stretch}", color=INK, fontsize=13, y=TITLE_Y, pad=ZOOM_TITLE_PAD)
     else:
         zx.set_axis_off()
         zx.text(0.5, 0.5, "no leading-edge zoom: needs a structured mesh with a wall on j = 0",
                 ha="center", va="center", color=INK, fontsize=13, transform=zx.transAxes)
-    extra = f"\nnot drawn (spanwise faces): {', '.join(hidden)}" if hidden else ""
+    # one name a line: the legend has the figure's right margin only (0.17 of its width)
+    extra = "\nnot drawn (spanwise faces):\n" + "\n".join(hidden) if hidden else ""
     fig.legend(loc="upper left", bbox_to_anchor=(MESH_MARGINS["right"] + 0.01, MESH_MARGINS["top"]),
                title="boundary groups" + extra,
                fontsize=11, title_fontsize=11, frameon=False)
