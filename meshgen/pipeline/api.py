@@ -87,7 +87,7 @@ class BuiltMesh:
 
         ``path`` is the file to write (``out/plate.msh``, ``out/plate.su2``...); the format
         follows from its suffix unless ``format`` names one (``meshgen formats`` lists
-        them). For ``polymesh`` and the solver set-up formats ``path`` is the case folder.
+        them). For ``polymesh`` and ``foam-setup`` ``path`` is the case folder.
         Files are written atomically; existing ones are replaced.
         """
         from ..io.writers import FORMATS, get_format
@@ -132,20 +132,30 @@ class BuiltMesh:
         return bc_sheet(self.plan)
 
 
+#: A stem no format's fixed names contain: a format whose first output does not start
+#: with it writes fixed names into a case folder (polymesh, foam-setup).
+_PROBE = "meshgen-stem-probe"
+
+
+def _is_folder_format(fmt) -> bool:
+    first = fmt.outputs(Path(), _PROBE)[0]
+    return first.parent != Path() or not first.name.startswith(_PROBE)
+
+
 def _format_for(path: Path, formats: dict):
     """The format whose first output file has ``path``'s name ending (longest match)."""
     name = path.name
     best, size = None, 0
     for fmt in formats.values():
         first = fmt.outputs(Path(), "x")[0]
-        if first.parent != Path():
-            continue  # a folder format (polymesh): only by name
+        if _is_folder_format(fmt):
+            continue  # a folder format (polymesh, foam-setup): only by name
         ending = first.name[1:]
         if name.endswith(ending) and len(ending) > size and len(name) > len(ending):
             best, size = fmt, len(ending)
     if best is None:
         endings = sorted(f.outputs(Path(), "x")[0].name[1:] for f in formats.values()
-                         if f.outputs(Path(), "x")[0].parent == Path())
+                         if not _is_folder_format(f))
         raise InputError(f"write: cannot tell the format of {path.name!r} from its suffix; "
                          f"give format=... or a name ending in {', '.join(endings)}")
     return best
@@ -153,7 +163,7 @@ def _format_for(path: Path, formats: dict):
 
 def _folder_and_stem(path: Path, fmt) -> tuple[Path, str]:
     first = fmt.outputs(Path(), "x")[0]
-    if first.parent != Path():  # a folder format: path is the case folder
+    if _is_folder_format(fmt):  # path is the case folder
         return path, path.name
     ending = first.name[1:]
     if not path.name.endswith(ending) or path.name == ending:
