@@ -27,7 +27,7 @@ from . import resolved, sizing
 from .flow_ranges import check_resolved_flow
 from .layout import Block, Patch
 from .spacing import capped_geometric, geometric_nodes, solve_geometric
-from .streamwise import streamwise_nodes
+from .streamwise import edge_cap_notes, streamwise_nodes
 from .summary import PlanDisplay
 from .wall_units import resolution_figures
 
@@ -372,6 +372,7 @@ def make_plan(case: Case) -> Plan:
         return _resolved_plan(case, flow, warnings, delta_end, height)
     # Estimate the counts before allocating anything big.
     x, blocks = streamwise_nodes(case, xl)
+    warnings += edge_cap_notes(case)
     y = wall_normal_nodes(case, flow, height, delta_end)
     z = None
     nz = 1

@@ -94,6 +94,10 @@ def streamwise_nodes(case: Case, length: float) -> tuple[np.ndarray, tuple[Block
     s, d = case.streamwise, case.domain
     dx_le, dx_te = s.leading_edge_spacing * length, s.trailing_edge_spacing * length
     if s.cells is None:
+        # the cap holds at the edges too: an edge spacing above it would meet the other,
+        # capped half at mid-plate with a jump no growth ratio allows (edge_cap_notes says so)
+        cap = s.max_spacing * length
+        dx_le, dx_te = min(dx_le, cap), min(dx_te, cap)
         plate = two_sided(length, dx_le, dx_te, s.growth_ratio, s.max_spacing * length, "streamwise")
     else:
         plate = plate_with_count(length, dx_le, dx_te, s.cells)
@@ -121,4 +125,17 @@ def streamwise_nodes(case: Case, length: float) -> tuple[np.ndarray, tuple[Block
     return x, tuple(blocks)
 
 
-__all__ = ["block_with_count", "plate_with_count", "streamwise_nodes"]
+def edge_cap_notes(case: Case) -> list[str]:
+    """Warnings for edge spacings that streamwise_nodes lowered to the plate's cap."""
+    s = case.streamwise
+    if s.cells is not None:
+        return []
+    return [f"streamwise.{w}_spacing = {v:g} L is above streamwise.max_spacing = {s.max_spacing:g} L: the "
+            f"plate's spacing at the {w.replace('_', ' ')} is lowered to the cap (left as given, the halves of "
+            f"the plate would meet with a jump of {v / s.max_spacing:.3g}); set it to at most "
+            f"{s.max_spacing:g} to silence this"
+            for w, v in (("leading_edge", s.leading_edge_spacing), ("trailing_edge", s.trailing_edge_spacing))
+            if v > s.max_spacing * (1 + 1e-9)]
+
+
+__all__ = ["block_with_count", "edge_cap_notes", "plate_with_count", "streamwise_nodes"]
