@@ -61,6 +61,7 @@ class _Layers:
         local = corners[HEX_FACES]  # (6, 4) node offsets of each cell face from the cell's first node
         first = mesh.base.cells[:, 0]  # node 0 of each layer-0 hexahedron (its quad's node 0)
         self.templates = {}
+        self.buffers: dict[int, np.ndarray] = {}
         for last in (False, True):  # every layer but the last, and the last
             has = np.zeros((b, a, 3), bool)
             has[:, :-1, 0] = True
@@ -91,8 +92,16 @@ class _Layers:
 
     def layer(self, k: int, part: int) -> np.ndarray:
         """Faces (part 0, node ids), owners (1) or neighbours (2) of the internal faces
-        owned by layer k."""
-        return self.templates[k == self.c - 1][part] + k * (self.n2 if part == 0 else self.m2)
+        owned by layer k: a buffer that the next call overwrites (write it first)."""
+        template = self.templates[k == self.c - 1][part]
+        if k == 0:
+            return template
+        buf = self.buffers.get(part)
+        if buf is None or buf.shape[0] < template.shape[0]:
+            buf = self.buffers[part] = np.empty_like(template)
+        out = buf[:template.shape[0]]
+        np.add(template, k * (self.n2 if part == 0 else self.m2), out=out)
+        return out
 
 
 @dataclass(frozen=True)
