@@ -258,9 +258,9 @@ def read_results_csv(
         else:
             if manifest is None and not found.is_file():
                 raise InputError(
-                    f"{path}: only 'cells' is given, so h needs the domain size: give the "
-                    f"dimension and area (2-D) or volume (3-D), or put a {MANIFEST_NAME} "
-                    "with each level's h beside the CSV"
+                    f"{path}: only 'cells' is given, so h needs the domain size: give --area "
+                    f"(2-D) or --volume (3-D) (dim and size in the API), or put a {MANIFEST_NAME} "
+                    "with each level's h beside the CSV (or name one with --manifest)"
                 )
             hs = _h_from_manifest(found, rows, lines, path)
         for r, h in zip(rows, hs):
