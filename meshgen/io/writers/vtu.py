@@ -17,7 +17,6 @@ from __future__ import annotations
 import base64
 from collections.abc import Iterable, Iterator
 from pathlib import Path
-from xml.sax.saxutils import quoteattr
 
 import numpy as np
 
@@ -38,6 +37,8 @@ def group_ids(mesh: Mesh) -> dict[str, int]:
 
 def _inline(name: str, data: np.ndarray, vtk_type: str) -> bytes:
     """A small DataArray inline, base64 with its UInt64 byte count (the field data)."""
+    from xml.sax.saxutils import quoteattr  # here: it loads urllib and email (10 ms of start-up)
+
     raw = np.ascontiguousarray(data).tobytes()
     payload = base64.b64encode(np.uint64(len(raw)).tobytes() + raw)
     return (f'<DataArray type="{vtk_type}" Name={quoteattr(name)} NumberOfComponents="1" '
