@@ -158,3 +158,33 @@ def _to_float(text: str) -> float:
 
 
 __all__ = ["ALIASES", "WallData", "canonical_name", "read_wall", "read_wall_csv", "read_wall_mesh"]
+
+
+def along_wall(x: np.ndarray, y: np.ndarray, at: np.ndarray) -> np.ndarray:
+    """``y(x)`` of one level's wall distribution at the stations ``at`` (same units as x).
+
+    Piecewise cubic Hermite through the nodes with each node's slope from the parabola
+    through it and its two neighbours (one-sided three-point slopes at the ends), so the
+    interpolant is exact for quadratics and its error is third order in the node spacing:
+    straight lines between the nodes add an error of order h^2 y'' that can exceed the
+    differences between well-converged levels. ``x`` must increase; ``at`` inside [x0, xn].
+    Two nodes: a straight line.
+    """
+    x, y, at = (np.asarray(a, dtype=float) for a in (x, y, at))
+    if x.size < 3:
+        return np.interp(at, x, y)
+    h = np.diff(x)
+    d = np.diff(y) / h
+    m = np.empty_like(y)
+    m[1:-1] = (h[:-1] * d[1:] + h[1:] * d[:-1]) / (h[:-1] + h[1:])
+    m[0] = ((2 * h[0] + h[1]) * d[0] - h[0] * d[1]) / (h[0] + h[1])
+    m[-1] = ((2 * h[-1] + h[-2]) * d[-1] - h[-1] * d[-2]) / (h[-1] + h[-2])
+    k = np.clip(np.searchsorted(x, at, side="right") - 1, 0, x.size - 2)
+    hk = h[k]
+    t = (at - x[k]) / hk
+    t2, t3 = t * t, t * t * t
+    out = ((2 * t3 - 3 * t2 + 1) * y[k] + (t3 - 2 * t2 + t) * hk * m[k]
+           + (-2 * t3 + 3 * t2) * y[k + 1] + (t3 - t2) * hk * m[k + 1])
+    exact = at == x[k]
+    out[exact] = y[k[exact]]
+    return out

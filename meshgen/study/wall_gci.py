@@ -21,7 +21,7 @@ from .gci import study
 from .gci_report import unreliable_because
 from .manifest import load_json
 from .results import read_family_levels
-from .wall_data import read_wall
+from .wall_data import along_wall, read_wall
 
 #: Default stations x/L: the plate's inside, away from the leading-edge singularity and the
 #: trailing edge (where the wake changes the flow).
@@ -96,7 +96,9 @@ def wall_study(family_dir: str | Path, name: str, stations=DEFAULT_STATIONS, qua
                       for n, h, (lv, w) in zip(names, hs, data)],
            "quantities": {}}
     for q in qs:
-        at = np.array([np.interp(stations * length, w.x, w.columns[q]) for _, w in data])  # levels x stations
+        # Third-order interpolation: straight lines would add noise larger than the level
+        # differences of a converged family (wall_data.along_wall).
+        at = np.array([along_wall(w.x, w.columns[q], stations * length) for _, w in data])  # levels x stations
         rows = []
         for j, s in enumerate(stations):  # a few tens of stations, each one small study
             st = study(at[:, j], h=hs, names=names, quantity=q, fs=fs, assumed_order=assumed_order,

@@ -112,6 +112,18 @@ def _plot_one(ax, q: str, res: Mapping) -> None:
         ax.plot(s[weak], fine[weak], "^", mfc="white", mec=OSC_COLOUR, ms=7, ls="none", zorder=5,
                 label=f"order far from formal ({weak.sum()}): GCI unreliable")
     ax.set_xlim(0.0, 1.0)
+    # The vertical scale follows the stations, not the leading-edge values (Cf grows without
+    # bound towards x = 0 and would flatten the curves where the study is).
+    shown = [fine, np.where(ok, ext, np.nan), np.where(ok, fine - u, np.nan), np.where(ok, fine + u, np.nan)]
+    start = max(0.0, float(s.min()) - 0.05)
+    for lv in res["levels"]:
+        x = np.asarray(lv["x"]) / length
+        shown.append(np.asarray(lv["values"][q])[(x >= start) & (x <= 1)])
+    v = np.concatenate([np.ravel(a) for a in shown])
+    v = v[np.isfinite(v)]
+    if v.size and v.max() > v.min():
+        pad = 0.06 * (v.max() - v.min())
+        ax.set_ylim(v.min() - pad, v.max() + pad)
     ax.set_xlabel("x / L along the plate")
     ax.set_ylabel(q)
     n_ok = int(ok.sum())
