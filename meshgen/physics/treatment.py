@@ -12,6 +12,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+import numpy as np
+
 #: The buffer layer between the viscous sublayer and the log layer (common practice).
 BUFFER_LAYER = (5.0, 30.0)
 
@@ -37,12 +39,14 @@ TREATMENTS: dict[str, WallTreatment] = {
 }
 
 
-def treatment_warnings(name: str, y_plus_min: float, y_plus_max: float, target: float | None) -> list[str]:
-    """Warnings for a first cell whose estimated y+ along the plate spans [min, max]."""
+def treatment_warnings(name: str, y_plus_min: float, y_plus_max: float, target: float | None,
+                       laminar: bool = False) -> list[str]:
+    """Warnings for a first cell whose estimated y+ along the plate spans [min, max]
+    (``laminar``: a laminar layer has no buffer layer to fall in)."""
     t = TREATMENTS[name]
     out = []
     lo, hi = BUFFER_LAYER
-    if name != "blended" and y_plus_max > lo and y_plus_min < hi:
+    if name != "blended" and not laminar and y_plus_max > lo and y_plus_min < hi:
         out.append(
             f"part of the plate's first cell lies in the buffer layer ({lo:g} < y+ < {hi:g}; estimated y+ "
             f"{y_plus_min:.3g} to {y_plus_max:.3g}), where the {name} treatment is least accurate "
@@ -55,3 +59,31 @@ def treatment_warnings(name: str, y_plus_min: float, y_plus_max: float, target: 
         out.append(f"estimated y+ falls to {y_plus_min:.3g}, below the wall-function range {t.band[0]:g} to "
                    f"{t.band[1]:g} (common practice)")
     return out
+
+
+def plate_band_warnings(name: str, x, y_plus, target: float | None, reference_station: float) -> list[str]:
+    """A wall-resolved first cell whose length-weighted mean y+ along a turbulent plate is
+    above the band (NASA TMR's "conventional wisdom" for wall-resolved RANS: an average
+    minimum y+ below 1).
+
+    The target holds at the reference station only; the wall shear, and so y+, grows
+    towards the leading edge. ``x`` [m] and ``y_plus`` are the estimate along the plate;
+    each node interval counts with its mean y+. The warning says what would clear it.
+    """
+    hi = TREATMENTS[name].band[1]
+    x, y_plus = np.asarray(x, dtype=float), np.asarray(y_plus, dtype=float)
+    if name != "resolved" or target is None or x.size < 2:
+        return []
+    seg = np.diff(x)
+    mid = 0.5 * (y_plus[1:] + y_plus[:-1])
+    mean = float((seg * mid).sum() / seg.sum())
+    if mean <= hi * (1 + 1e-9):
+        return []
+    share = float(seg[mid > hi * (1 + 1e-9)].sum() / seg.sum())
+    peak = float(y_plus.max())
+    return [(f"the first cell's estimated y+ averages {mean:.3g} along the plate (above {hi:g} over "
+             f"{100 * share:.3g} % of it, up to {peak:.3g} towards the leading edge): wall.y_plus = {target:g} "
+             f"holds at the reference station (x/L = {reference_station:g}) only; for an average below {hi:g} "
+             f"lower wall.y_plus to about {target * hi / mean:.2g} (or to {target * hi / peak:.2g} for y+ <= {hi:g} "
+             "everywhere) or move wall.reference_station towards the leading edge (NASA TMR: an average y+ "
+             "below 1 for wall-resolved RANS)")]

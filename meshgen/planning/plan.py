@@ -80,7 +80,7 @@ class Plan(PlanDisplay):
     @property
     def warnings(self) -> tuple[str, ...]:
         """Warnings of the case and of this plan's own resolution (per family level)."""
-        _, yp = self.y_plus_along_plate()
+        xs, yp = self.y_plus_along_plate()
         # a wall-modelled LES sizes its first cell on delta, not on a y+ band
         treatment = self.resolution is None or KINDS[self.resolution.kind].first_y_plus is not None
         out = self.outside_correlation()
@@ -89,7 +89,8 @@ class Plan(PlanDisplay):
              f"the {out['correlation']} correlation (it has no value at Re_x <= {out['re_x_below']:.3g}): no "
              "y+ estimate there; the y+ figures cover the rest of the plate"),)
         return (self.setup_warnings + resolution_warnings(self.y, self.delta99_end) + outside
-                + tuple(sizing.physics_warnings(self.case, self.flow, float(yp.min()), float(yp.max()), treatment)))
+                + tuple(sizing.physics_warnings(self.case, self.flow, float(yp.min()), float(yp.max()), treatment,
+                                                plate_y_plus=(xs, yp))))
 
     @property
     def dim(self) -> int:

@@ -11,7 +11,7 @@ from functools import partial
 
 from ..physics import correlations as bl
 from ..physics import transition as tr
-from ..physics.treatment import TREATMENTS, treatment_warnings
+from ..physics.treatment import TREATMENTS, plate_band_warnings, treatment_warnings
 from ..physics.wall import BoundaryLayerFlow
 
 #: Above this free-stream Mach number an incompressible sizing is questionable (common
@@ -75,8 +75,10 @@ def assumptions(case, flow) -> list[str]:
     return out
 
 
-def physics_warnings(case, flow, y_plus_min: float, y_plus_max: float, treatment: bool = True) -> list[str]:
-    """Warnings of the flow and, when ``treatment``, of the first cell against the wall treatment's band."""
+def physics_warnings(case, flow, y_plus_min: float, y_plus_max: float, treatment: bool = True,
+                     plate_y_plus: tuple | None = None) -> list[str]:
+    """Warnings of the flow and, when ``treatment``, of the first cell against the wall treatment's band
+    (``plate_y_plus``: the estimated y+ along the plate as (x [m], y+), for the share above the band)."""
     out = []
     if not flow.mach and flow.mach_estimate is not None and flow.mach_estimate > INCOMPRESSIBLE_MACH:
         out.append(f"free-stream Mach number {flow.mach_estimate:.2f} is above {INCOMPRESSIBLE_MACH} but the case is "
@@ -88,5 +90,8 @@ def physics_warnings(case, flow, y_plus_min: float, y_plus_max: float, treatment
     w = case.wall
     target = y_plus_target(w) if sized_by_y_plus(w) else None
     if treatment:
-        out += treatment_warnings(w.treatment, y_plus_min, y_plus_max, target)
+        laminar = flow.regime == "laminar"
+        out += treatment_warnings(w.treatment, y_plus_min, y_plus_max, target, laminar=laminar)
+        if plate_y_plus is not None and not laminar:
+            out += plate_band_warnings(w.treatment, *plate_y_plus, target, w.reference_station)
     return out
