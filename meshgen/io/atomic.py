@@ -127,6 +127,20 @@ def _make_parent(target: Path) -> None:
 
 
 @contextmanager
+def _checked(tmp_path: Path, target: Path) -> Iterator[None]:
+    """Around the writing into ``tmp_path``: an error while writing becomes one naming
+    ``target`` (``_translate``), and what was written is checked before it is published."""
+    try:
+        yield
+    except Exception as exc:
+        err = _translate(exc, tmp_path, target)
+        if err is None:
+            raise
+        raise err from exc
+    _check_tree(tmp_path, target)
+
+
+@contextmanager
 def atomic_file(target: Path) -> Iterator[Path]:
     """Yield a temporary path in ``target``'s folder; on success, check it and rename it
     to ``target``."""
@@ -144,14 +158,8 @@ def atomic_file(target: Path) -> Iterator[Path]:
             raise
         except OSError as exc:
             raise _failed(target, _cause(exc)) from None
-        try:
+        with _checked(tmp_path, target):
             yield tmp_path
-        except Exception as exc:
-            err = _translate(exc, tmp_path, target)
-            if err is None:
-                raise
-            raise err from exc
-        _check_tree(tmp_path, target)
         _publish_mode(tmp_path, directory=False)
         os.replace(tmp_path, target)
     finally:
@@ -170,14 +178,8 @@ def atomic_dir(target: Path) -> Iterator[Path]:
     except OSError as exc:
         raise _failed(target, _cause(exc)) from None
     try:
-        try:
+        with _checked(tmp_path, target):
             yield tmp_path
-        except Exception as exc:
-            err = _translate(exc, tmp_path, target)
-            if err is None:
-                raise
-            raise err from exc
-        _check_tree(tmp_path, target)
         _publish_mode(tmp_path, directory=True)
         for sub in tmp_path.rglob("*"):
             if sub.is_dir():
