@@ -20,7 +20,7 @@ import pytest
 from samples import million_cells
 
 from meshgen.core.errors import WriteError
-from meshgen.io.writers import cgns, plot3d
+from meshgen.io.writers import cgns, cgns_tree, plot3d
 from meshgen.io.writers.registry import FORMATS
 from meshgen.meshing.mesh import Block, Mesh, Patch, extrude, structured_mesh
 
@@ -381,9 +381,9 @@ def test_unstructured_zone(tmp_path, kind):
 
 
 def test_integer_width_follows_the_values():
-    assert cgns._ints([0, 2**31 - 1])[0] == "I4"
-    assert cgns._ints([1, 2**31])[0] == "I8"
-    assert cgns._ints([[1, 2], [3, 2**40]])[1].dtype == np.int64
+    assert cgns_tree._ints([0, 2**31 - 1])[0] == "I4"
+    assert cgns_tree._ints([1, 2**31])[0] == "I8"
+    assert cgns_tree._ints([[1, 2], [3, 2**40]])[1].dtype == np.int64
 
 
 @needs_tools
@@ -391,7 +391,7 @@ def test_integer_width_follows_the_values():
 def test_cgns_library_reads_64_bit_integers(tmp_path, monkeypatch, kind):
     # Meshes past 2**31 nodes or connectivity entries get I8 arrays; force I8 everywhere
     # on a small mesh and let cgnscheck read it.
-    monkeypatch.setattr(cgns, "_ints", lambda v: ("I8", np.asarray(v, dtype=np.int64)))
+    monkeypatch.setattr(cgns_tree, "_ints", lambda v: ("I8", np.asarray(v, dtype=np.int64)))
     path = cgns.write(sample(kind), tmp_path, kind)[0]
     with h5py.File(path, "r") as f:
         zone = f["Base/upstream" if kind == "3d" else "Base/fluid"]
